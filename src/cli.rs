@@ -1,0 +1,249 @@
+//! The command line. Each `///` comment below is the help text of its command or option.
+//!
+//! Exit codes: 0 every design check passes; 1 a design check fails (a package is still
+//! written, and marked as failing); 2 bad input or usage (nothing is written).
+
+use crate::calc;
+use crate::diag::Diagnostics;
+use crate::package::{self, BuildError};
+use crate::record::{self, Record};
+use crate::report::{sections, Templates};
+use crate::sheet::{Quantity, Sheet};
+use crate::units::{format_value, Unit};
+use clap::{Parser, Subcommand};
+use std::collections::BTreeSet;
+use std::io::Write;
+use std::path::PathBuf;
+
+/// Every check passes.
+pub const EXIT_PASS: u8 = 0;
+/// At least one design check fails.
+pub const EXIT_CHECK_FAILED: u8 = 1;
+/// Bad input or usage; nothing was written.
+pub const EXIT_BAD_INPUT: u8 = 2;
+
+/// Traced calculation packages for the DC-to-AC stage of inverters.
+///
+/// Exit codes: 0 all design checks pass, 1 a design check fails, 2 bad input or usage.
+#[derive(Debug, Parser)]
+#[command(name = "bridgebook", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Evaluate a design record and write its package: package.pdf, results.json, plots.
+    Build {
+        /// The design record (YAML).
+        design: PathBuf,
+        /// Folder under which the package goes, as OUT/<project id>/<revision>/.
+        #[arg(long, default_value = "out")]
+        out: PathBuf,
+        /// A folder with your own package.md and style.typ (copy `templates/` to start).
+        #[arg(long)]
+        templates: Option<PathBuf>,
+    },
+    /// Evaluate a design record and print its design checks.
+    Check {
+        /// The design record (YAML).
+        design: PathBuf,
+        /// Print every quantity and check as JSON (the results.json contract) instead.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Show how one result was obtained: formula, numbers, source, and its inputs as a tree.
+    Explain {
+        /// The design record (YAML).
+        design: PathBuf,
+        /// The result id, e.g. `modulation.m_a.min` (`check --json` lists them all).
+        id: String,
+    },
+}
+
+/// Loads, validates and evaluates a record, including the references in its Markdown.
+fn evaluate(path: &std::path::Path) -> Result<(Record, Sheet), Diagnostics> {
+    let record = record::load_file(path)?;
+    let sheet = calc::evaluate(&record.design);
+    let text_errors = sections::record_text_errors(&record, &sheet);
+    if !text_errors.is_empty() {
+        return Err(Diagnostics(text_errors));
+    }
+    Ok((record, sheet))
+}
+
+/// Runs a parsed command line, writing results to `out` and messages to `err`.
+pub fn run(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> u8 {
+    match run_inner(cli, out, err) {
+        Ok(code) => code,
+        Err(message) => {
+            let _ = writeln!(err, "{message}");
+            EXIT_BAD_INPUT
+        }
+    }
+}
+
+fn verdict_code(sheet: &Sheet) -> u8 {
+    if sheet.all_pass() {
+        EXIT_PASS
+    } else {
+        EXIT_CHECK_FAILED
+    }
+}
+
+fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, String> {
+    let io = |e: std::io::Error| format!("error: cannot write output: {e}");
+    match &cli.command {
+        Command::Build {
+            design,
+            out: out_dir,
+            templates,
+        } => {
+            let templates = match templates {
+                Some(dir) => Templates::from_dir(dir).map_err(|d| d.to_string())?,
+                None => Templates::builtin(),
+            };
+            let (record, sheet) = evaluate(design).map_err(|d| d.to_string())?;
+            let built =
+                package::build(&record, &sheet, &templates, out_dir).map_err(|e| match e {
+                    BuildError::Input(d) => d.to_string(),
+                    other => other.to_string(),
+                })?;
+            print_warnings(&sheet, err).map_err(io)?;
+            let p = &record.design.project;
+            writeln!(
+                out,
+                "built {} rev {}: {} pages, {}",
+                p.id,
+                p.revision,
+                built.pages,
+                check_count(&sheet)
+            )
+            .map_err(io)?;
+            writeln!(out, "  {}", built.dir.join("package.pdf").display()).map_err(io)?;
+            Ok(verdict_code(&sheet))
+        }
+        Command::Check { design, json } => {
+            let (record, sheet) = evaluate(design).map_err(|d| d.to_string())?;
+            if *json {
+                let stamp = package::stamp(&record, &Templates::builtin());
+                let doc = package::results_json(&record, &sheet, &stamp);
+                let text = serde_json::to_string_pretty(&doc)
+                    .map_err(|e| format!("internal error: {e}, please report"))?;
+                writeln!(out, "{text}").map_err(io)?;
+            } else {
+                print_checks(&record, &sheet, out).map_err(io)?;
+                print_warnings(&sheet, err).map_err(io)?;
+            }
+            Ok(verdict_code(&sheet))
+        }
+        Command::Explain { design, id } => {
+            let (_, sheet) = evaluate(design).map_err(|d| d.to_string())?;
+            let Some(q) = sheet.get(id) else {
+                let ids: Vec<&str> = sheet.quantities.iter().map(|q| q.id.as_str()).collect();
+                let hint = match crate::diag::did_you_mean(id, &ids) {
+                    Some(close) => format!("did you mean `{close}`?"),
+                    None => "`bridgebook check DESIGN --json` lists every id".to_string(),
+                };
+                return Err(format!(
+                    "error: no result `{id}` in this design\n  = hint: {hint}"
+                ));
+            };
+            explain(&sheet, q, out).map_err(io)?;
+            Ok(EXIT_PASS)
+        }
+    }
+}
+
+fn check_count(sheet: &Sheet) -> String {
+    let failing = sheet.checks.iter().filter(|c| !c.pass).count();
+    if failing == 0 {
+        format!("{} checks, all pass", sheet.checks.len())
+    } else {
+        format!("{} checks, {failing} FAIL", sheet.checks.len())
+    }
+}
+
+fn print_warnings(sheet: &Sheet, err: &mut dyn Write) -> std::io::Result<()> {
+    for w in &sheet.warnings {
+        writeln!(err, "warning: {} ({})", w.text, w.id)?;
+    }
+    Ok(())
+}
+
+fn print_checks(record: &Record, sheet: &Sheet, out: &mut dyn Write) -> std::io::Result<()> {
+    let p = &record.design.project;
+    writeln!(out, "{} rev {}: {}", p.id, p.revision, p.title)?;
+    let width = sheet.checks.iter().map(|c| c.id.len()).max().unwrap_or(0);
+    for c in &sheet.checks {
+        writeln!(
+            out,
+            "  {:<4}  {:<width$}  {} {} {}  (margin {})",
+            c.verdict(),
+            c.id,
+            format_value(c.value, c.unit),
+            c.relation.symbol(),
+            format_value(c.limit, c.unit),
+            format_value(c.margin, Unit::Percent),
+        )?;
+    }
+    writeln!(out, "{}", check_count(sheet))
+}
+
+/// Prints a quantity, then its inputs as a tree; a quantity shown once is not expanded again.
+fn explain(sheet: &Sheet, q: &Quantity, out: &mut dyn Write) -> std::io::Result<()> {
+    writeln!(out, "{}  {}", q.id, q.name)?;
+    writeln!(out, "  {} = {}", q.symbol, q.formula)?;
+    if q.substituted != q.formula {
+        writeln!(out, "  {:w$} = {}", "", q.substituted, w = q.symbol.len())?;
+    }
+    let result = match &q.class {
+        Some(c) => format!("{c} ({})", q.display()),
+        None => q.display(),
+    };
+    writeln!(out, "  {:w$} = {result}", "", w = q.symbol.len())?;
+    writeln!(out, "  source: {}", q.source.describe())?;
+    if !q.inputs.is_empty() {
+        writeln!(out, "  inputs:")?;
+    }
+    let mut seen = BTreeSet::new();
+    tree(sheet, q, "  ", &mut seen, out)
+}
+
+fn tree(
+    sheet: &Sheet,
+    q: &Quantity,
+    prefix: &str,
+    seen: &mut BTreeSet<String>,
+    out: &mut dyn Write,
+) -> std::io::Result<()> {
+    let n = q.inputs.len();
+    for (i, id) in q.inputs.iter().enumerate() {
+        let Some(child) = sheet.get(id) else { continue };
+        let last = i + 1 == n;
+        let (branch, carry) = if last {
+            ("└── ", "    ")
+        } else {
+            ("├── ", "│   ")
+        };
+        let repeat = !seen.insert(id.clone()) && !child.inputs.is_empty();
+        let how = if child.is_input() || child.inputs.is_empty() {
+            format!("[{}]", child.source.describe())
+        } else if repeat {
+            "(expanded above)".to_string()
+        } else {
+            format!("= {}", child.formula)
+        };
+        writeln!(
+            out,
+            "{prefix}{branch}{} = {}  {how}",
+            child.id,
+            child.display()
+        )?;
+        if !repeat {
+            tree(sheet, child, &format!("{prefix}{carry}"), seen, out)?;
+        }
+    }
+    Ok(())
+}

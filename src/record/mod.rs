@@ -1,0 +1,659 @@
+//! The design record: YAML text in, a validated [`Design`] out, or every problem at once.
+//!
+//! Two layers, kept apart: the raw layer is `serde_yaml`'s document tree plus the
+//! position index of [`spans`]; the typed layer is [`model`]. [`load_str`] walks the raw
+//! tree with a [`reader::Section`] per mapping, converting units at the edge.
+
+pub mod model;
+pub mod reader;
+pub mod spans;
+
+pub use model::*;
+
+use crate::diag::{Diagnostic, Diagnostics, SourceText};
+use crate::units::Unit;
+use reader::{Reader, Section};
+use std::path::Path;
+
+/// The record format version this engine reads.
+pub const FORMAT_VERSION: i64 = 1;
+
+/// A loaded record: the typed design and the parsed document (for canonical hashing).
+#[derive(Clone, Debug)]
+pub struct Record {
+    pub design: Design,
+    pub document: serde_yaml::Value,
+    pub source: SourceText,
+}
+
+/// Reads and validates a record file.
+pub fn load_file(path: &Path) -> Result<Record, Diagnostics> {
+    let name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        Diagnostics(vec![Diagnostic {
+            file: name.clone(),
+            line: 0,
+            column: 1,
+            key: String::new(),
+            message: format!("cannot read the design record: {e}"),
+            hint: Some("check the path; records are YAML files such as `designs/*.yaml`".into()),
+            snippet: None,
+            width: 1,
+        }])
+    })?;
+    load_str(&name, &text)
+}
+
+/// Parses and validates record text; `name` is used in messages.
+pub fn load_str(name: &str, text: &str) -> Result<Record, Diagnostics> {
+    let source = SourceText {
+        name: name.to_string(),
+        text: text.to_string(),
+    };
+    let document: serde_yaml::Value = match serde_yaml::from_str(text) {
+        Ok(v) => v,
+        Err(e) => return Err(Diagnostics(vec![syntax_error(&source, &e)])),
+    };
+    let reader = Reader::new(&source);
+    let design = reader.root(&document).and_then(|root| read_design(root));
+    let (errors, inputs) = reader.into_parts();
+    match design {
+        Some(mut design) if errors.is_empty() => {
+            design.inputs = inputs;
+            Ok(Record {
+                design,
+                document,
+                source,
+            })
+        }
+        _ if errors.is_empty() => Err(Diagnostics(vec![source.at(
+            0,
+            1,
+            1,
+            "",
+            "internal error: the record was rejected without a reason, please report",
+        )])),
+        _ => Err(Diagnostics(errors)),
+    }
+}
+
+fn syntax_error(source: &SourceText, e: &serde_yaml::Error) -> Diagnostic {
+    let (line, column) = e
+        .location()
+        .map(|l| (l.line(), l.column()))
+        .unwrap_or((0, 1));
+    // serde_yaml appends " at line L column C" to its message; the place is shown apart.
+    let text = e.to_string();
+    let tabs = text.contains("tab");
+    let message = match text.find(" at line ") {
+        Some(i) => text[..i].to_string(),
+        None => text,
+    };
+    let hint = if message.contains("duplicate entry") {
+        "each key may appear once per mapping; remove or rename one of them"
+    } else if tabs {
+        "indent with spaces; YAML does not allow tabs for indentation"
+    } else {
+        "check the indentation and the `key: value` form on this line and the one above"
+    };
+    source
+        .at(
+            line,
+            column,
+            1,
+            "",
+            format!("the record is not valid YAML: {message}"),
+        )
+        .with_hint(hint)
+}
+
+fn read_design(root: Section) -> Option<Design> {
+    let r = root.reader();
+    let format = root.integer("bridgebook");
+    if let Some(v) = format {
+        if v != FORMAT_VERSION {
+            r.error(
+                "bridgebook",
+                format!("record format version {v} is not supported"),
+                Some(format!(
+                    "this engine reads format `bridgebook: {FORMAT_VERSION}`"
+                )),
+            );
+        }
+    }
+    let project = root.section("project").and_then(read_project);
+    let source = root.section("source").and_then(read_source);
+    let output = root.section("output").and_then(read_output);
+    let bridge = root.section("bridge").and_then(read_bridge);
+    let filter = root.section("filter").and_then(read_filter);
+    let limits = read_limits(root.optional_section("limits"));
+    let assumptions = read_assumptions(&root);
+    let notes = root.optional_text("notes");
+    root.finish();
+
+    let design = Design {
+        format: format? as u32,
+        project: project?,
+        source: source?,
+        output: output?,
+        bridge: bridge?,
+        filter: filter?,
+        limits: limits?,
+        assumptions,
+        notes,
+        inputs: Vec::new(),
+    };
+    cross_checks(r, &design);
+    Some(design)
+}
+
+/// A name that becomes a folder of the output: letters, digits, `-`, `_`, `.`.
+fn folder_safe(r: &Reader, path: &str, text: &str) -> bool {
+    let ok = !text.starts_with('.')
+        && text
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.'));
+    if !ok {
+        r.error(
+            path,
+            format!("`{text}` cannot name an output folder"),
+            Some("use letters, digits, `-`, `_` and `.` only, e.g. `PS-204`".into()),
+        );
+    }
+    ok
+}
+
+fn read_project(s: Section) -> Option<Project> {
+    let r = s.reader();
+    let id = s.text("id");
+    let title = s.text("title");
+    let revision = s.text("revision");
+    let date = s.date("date");
+    let prepared_by = s.text("prepared_by");
+    let description = s.optional_text("description");
+    let revisions = s.list("revisions", |path, v| {
+        let e = s.element(path, v)?;
+        let (rev, date, by, change) = (
+            e.text("rev"),
+            e.date("date"),
+            e.text("by"),
+            e.text("change"),
+        );
+        e.finish();
+        Some(RevisionEntry {
+            rev: rev?,
+            date: date?,
+            by: by?,
+            change: change?,
+        })
+    });
+    s.finish();
+    let (id, revision) = (id?, revision?);
+    let id_ok = folder_safe(r, &s.key_path("id"), &id);
+    let rev_ok = folder_safe(r, &s.key_path("revision"), &revision);
+    let date = date?;
+    for (i, pair) in revisions.windows(2).enumerate() {
+        if pair[1].date < pair[0].date {
+            r.error(
+                &format!("{}[{}].date", s.key_path("revisions"), i + 1),
+                format!(
+                    "revision `{}` is dated {} before revision `{}` ({})",
+                    pair[1].rev, pair[1].date, pair[0].rev, pair[0].date
+                ),
+                Some("list revisions oldest first".into()),
+            );
+        }
+    }
+    if let Some(last) = revisions.last() {
+        if last.date > date {
+            r.error(
+                &s.key_path("date"),
+                format!(
+                    "the record is dated {date}, before its revision `{}` ({})",
+                    last.rev, last.date
+                ),
+                Some("the record's date is the date of its current revision".into()),
+            );
+        }
+    }
+    if !(id_ok && rev_ok) {
+        return None;
+    }
+    Some(Project {
+        id,
+        title: title?,
+        revision,
+        date,
+        prepared_by: prepared_by?,
+        description,
+        revisions,
+    })
+}
+
+/// Checks `lo < value <= hi` (or `lo <= value` with `inclusive_lo`), reporting an
+/// absurd value at its key.
+fn in_range(r: &Reader, g: &Given, lo: f64, hi: f64, unit: Unit, why: &str) -> bool {
+    use crate::units::format_value;
+    let ok = g.value > lo && g.value <= hi;
+    if !ok {
+        r.error(
+            &g.key,
+            format!(
+                "`{}` = {} is outside {} to {}",
+                g.key.rsplit('.').next().unwrap_or(&g.key),
+                format_value(g.value, unit),
+                format_value(lo, unit),
+                format_value(hi, unit)
+            ),
+            Some(why.to_string()),
+        );
+    }
+    ok
+}
+
+fn read_source(s: Section) -> Option<DcSource> {
+    let r = s.reader();
+    let kind = s.choice("kind", &["fixed"]);
+    let v = s.section("voltage");
+    let volts = v.map(|v| {
+        let t = (
+            v.quantity("min", Unit::Volt),
+            v.quantity("nominal", Unit::Volt),
+            v.quantity("max", Unit::Volt),
+        );
+        v.finish();
+        t
+    });
+    s.finish();
+    let (min, nominal, max) = volts?;
+    let (min, nominal, max) = (min?, nominal?, max?);
+    let why = "DC inputs of this engine are above 0 V and at most 2 kV";
+    let all_ok = [&min, &nominal, &max]
+        .iter()
+        .map(|g| in_range(r, g, 0.0, 2000.0, Unit::Volt, why))
+        .fold(true, |a, b| a && b);
+    if all_ok && !(min.value <= nominal.value && nominal.value <= max.value) {
+        r.error(
+            &nominal.key,
+            format!(
+                "DC voltages out of order: min {} V, nominal {} V, max {} V",
+                min.value, nominal.value, max.value
+            ),
+            Some("the DC window must satisfy min <= nominal <= max".into()),
+        );
+    }
+    // `fixed` is the only kind this version reads; battery and PV strings come later.
+    kind?;
+    Some(DcSource {
+        kind: SourceKind::Fixed,
+        v_min: min,
+        v_nominal: nominal,
+        v_max: max,
+    })
+}
+
+fn read_output(s: Section) -> Option<Output> {
+    let r = s.reader();
+    let voltage = s.quantity("voltage", Unit::Volt);
+    let frequency = s.quantity("frequency", Unit::Hertz);
+    let power = s.quantity("power", Unit::Watt);
+    let power_factor = s.quantity("power_factor", Unit::One);
+    let connection = s.choice("connection", &["standalone", "grid"]);
+    s.finish();
+    let (voltage, frequency, power, power_factor) = (voltage?, frequency?, power?, power_factor?);
+    let ok = [
+        in_range(
+            r,
+            &voltage,
+            0.0,
+            1000.0,
+            Unit::Volt,
+            "the output is an rms voltage of at most 1 kV",
+        ),
+        in_range(
+            r,
+            &frequency,
+            1.0,
+            1000.0,
+            Unit::Hertz,
+            "the output frequency is a mains-like frequency such as 50 Hz, 60 Hz or 400 Hz",
+        ),
+        in_range(
+            r,
+            &power,
+            0.0,
+            10e6,
+            Unit::Watt,
+            "the rated power is the real power at full load, above 0 W",
+        ),
+        in_range(
+            r,
+            &power_factor,
+            0.0,
+            1.0,
+            Unit::One,
+            "the power factor is a number above 0 and at most 1 (1 = resistive load)",
+        ),
+    ];
+    let connection = match connection? {
+        "standalone" => Connection::Standalone,
+        _ => {
+            r.error(
+                &s.key_path("connection"),
+                "grid-connected evaluation is not part of this engine version",
+                Some("use `connection: standalone`; grid-connected designs come later".into()),
+            );
+            Connection::Grid
+        }
+    };
+    if ok.iter().any(|ok| !ok) {
+        return None;
+    }
+    Some(Output {
+        voltage,
+        frequency,
+        power,
+        power_factor,
+        connection,
+    })
+}
+
+fn read_bridge(s: Section) -> Option<Bridge> {
+    let r = s.reader();
+    let topology = s.choice("topology", &["half-bridge", "full-bridge"]);
+    let pwm = s.choice("pwm", &["bipolar", "unipolar"]);
+    let f_sw = s.quantity("switching_frequency", Unit::Hertz);
+    let carrier_peak = s.optional_quantity("carrier_peak", Unit::Volt);
+    s.finish();
+    let topology = match topology? {
+        "half-bridge" => Topology::HalfBridge,
+        _ => Topology::FullBridge,
+    };
+    let pwm = match pwm? {
+        "bipolar" => Pwm::Bipolar,
+        _ => Pwm::Unipolar,
+    };
+    if topology == Topology::HalfBridge && pwm == Pwm::Unipolar {
+        r.error(
+            &s.key_path("pwm"),
+            "unipolar PWM needs two legs; a half-bridge has one",
+            Some("use `pwm: bipolar`, or `topology: full-bridge`".into()),
+        );
+    }
+    let f_sw = f_sw?;
+    let ok = in_range(
+        r,
+        &f_sw,
+        0.0,
+        1e6,
+        Unit::Hertz,
+        "switching frequencies of silicon and SiC bridges are between a few hundred Hz and 1 MHz",
+    );
+    if let Some(c) = &carrier_peak {
+        in_range(
+            r,
+            c,
+            0.0,
+            100.0,
+            Unit::Volt,
+            "the carrier is a modulator signal, a few volts or a normalised 1 V",
+        );
+    }
+    ok.then_some(Bridge {
+        topology,
+        pwm,
+        switching_frequency: f_sw,
+        carrier_peak,
+    })
+}
+
+fn read_filter(s: Section) -> Option<Filter> {
+    let r = s.reader();
+    let _ = s.choice("type", &["lc"]);
+    let has_values = s.has("inductance") || s.has("capacitance");
+    let design = s.optional_section("design");
+    s.allow(&["inductance", "capacitance"]);
+    let sizing = match (has_values, design) {
+        (true, Some(_)) => {
+            r.error(
+                &s.key_path("design"),
+                "the filter gives both values and a sizing rule",
+                Some("keep either `inductance` and `capacitance`, or `design`".into()),
+            );
+            None
+        }
+        (true, None) => {
+            let l = s.quantity("inductance", Unit::Henry);
+            let c = s.quantity("capacitance", Unit::Farad);
+            match (l, c) {
+                (Some(l), Some(c)) => {
+                    // `&` rather than `&&`: both values are reported when both are absurd.
+                    let ok = in_range(
+                        r,
+                        &l,
+                        0.0,
+                        1.0,
+                        Unit::Henry,
+                        "output filter inductors are between µH and a few hundred mH",
+                    ) & in_range(
+                        r,
+                        &c,
+                        0.0,
+                        0.1,
+                        Unit::Farad,
+                        "output filter capacitors are between nF and a few mF",
+                    );
+                    ok.then_some(FilterSizing::Given {
+                        inductance: l,
+                        capacitance: c,
+                    })
+                }
+                _ => None,
+            }
+        }
+        (false, Some(d)) => {
+            let k = d.quantity("resonance_ratio", Unit::One);
+            let z = d.quantity("damping", Unit::One);
+            d.finish();
+            let k_ok = k.as_ref().is_some_and(|k| {
+                in_range(
+                    r,
+                    k,
+                    1.0,
+                    1000.0,
+                    Unit::One,
+                    "the resonance ratio f0/f1 must be above 1; 10 to 40 is usual",
+                )
+            });
+            let z_ok = z.as_ref().is_some_and(|z| {
+                in_range(
+                    r,
+                    z,
+                    0.0,
+                    5.0,
+                    Unit::One,
+                    "the damping ratio at rated load is above 0; 0.3 to 1 is usual",
+                )
+            });
+            match (k, z) {
+                (Some(k), Some(z)) if k_ok && z_ok => Some(FilterSizing::Rule {
+                    resonance_ratio: k,
+                    damping: z,
+                }),
+                _ => None,
+            }
+        }
+        (false, None) => {
+            r.error(
+                &s.path,
+                "the filter has neither values nor a sizing rule",
+                Some(
+                    "add `inductance:` and `capacitance:`, or `design: { resonance_ratio: 10, damping: 0.5 }`"
+                        .into(),
+                ),
+            );
+            None
+        }
+    };
+    s.finish();
+    Some(Filter { sizing: sizing? })
+}
+
+fn limit(
+    s: Option<&Section>,
+    key: &'static str,
+    unit: Unit,
+    default: f64,
+    basis: &'static str,
+) -> Limit {
+    let given = s.and_then(|s| s.optional_quantity(key, unit));
+    Limit {
+        value: given.as_ref().map_or(default, |g| g.value),
+        given,
+        default_basis: basis,
+    }
+}
+
+fn read_limits(section: Option<Section>) -> Option<Limits> {
+    let s = section.as_ref();
+    let limits = Limits {
+        max_modulation_index: limit(
+            s,
+            "max_modulation_index",
+            Unit::One,
+            0.95,
+            "about 5 % of modulation kept in reserve for the voltage and current regulators",
+        ),
+        min_resonance_ratio: limit(
+            s,
+            "min_resonance_ratio",
+            Unit::One,
+            10.0,
+            "f0 at least ten times f1 keeps the filter's gain and phase error at f1 small",
+        ),
+        max_resonance_fraction: limit(
+            s,
+            "max_resonance_fraction",
+            Unit::One,
+            0.5,
+            "f0 below half the switching frequency, so the first carrier group is attenuated",
+        ),
+        max_gain_deviation: limit(
+            s,
+            "max_gain_deviation",
+            Unit::Percent,
+            0.05,
+            "the gain at f1 within 5 % of unity, so regulation needs little extra modulation",
+        ),
+        min_light_load_damping: limit(
+            s,
+            "min_light_load_damping",
+            Unit::One,
+            0.02,
+            "damping ratio at light load of at least 0.02 (resonant peak Q = 1/(2 zeta) of at most 25); below that, active damping is needed",
+        ),
+        light_load: limit(
+            s,
+            "light_load",
+            Unit::Percent,
+            0.10,
+            "10 % of rated power as the light-load case",
+        ),
+    };
+    if let Some(s) = s {
+        let r = s.reader();
+        let bounds: [(&Limit, f64, f64, Unit, &str); 6] = [
+            (
+                &limits.max_modulation_index,
+                0.0,
+                4.0 / std::f64::consts::PI,
+                Unit::One,
+                "the modulation index limit is above 0 and at most 4/pi (square wave)",
+            ),
+            (
+                &limits.min_resonance_ratio,
+                1.0,
+                1000.0,
+                Unit::One,
+                "the minimum f0/f1 ratio is above 1",
+            ),
+            (
+                &limits.max_resonance_fraction,
+                0.0,
+                1.0,
+                Unit::One,
+                "the maximum f0/f_sw fraction is above 0 and at most 1",
+            ),
+            (
+                &limits.max_gain_deviation,
+                0.0,
+                1.0,
+                Unit::Percent,
+                "the gain deviation limit is above 0 % and at most 100 %",
+            ),
+            (
+                &limits.min_light_load_damping,
+                0.0,
+                5.0,
+                Unit::One,
+                "the damping floor is above 0",
+            ),
+            (
+                &limits.light_load,
+                0.0,
+                1.0,
+                Unit::Percent,
+                "the light-load case is a fraction of rated power above 0 % and at most 100 %",
+            ),
+        ];
+        for (l, lo, hi, unit, why) in bounds {
+            if let Some(g) = &l.given {
+                in_range(r, g, lo, hi, unit, why);
+            }
+        }
+    }
+    if let Some(s) = section {
+        s.finish();
+    }
+    Some(limits)
+}
+
+fn read_assumptions(root: &Section) -> Vec<Assumption> {
+    let r = root.reader();
+    let list = root.list("assumptions", |path, v| {
+        let e = root.element(path, v)?;
+        let id = e.text("id");
+        let text = e.text("text");
+        e.finish();
+        Some(Assumption {
+            id: id?,
+            text: text?,
+            line: r.line(path),
+        })
+    });
+    let mut seen: Vec<&str> = Vec::new();
+    for (i, a) in list.iter().enumerate() {
+        if seen.contains(&a.id.as_str()) {
+            r.error(
+                &format!("assumptions[{i}].id"),
+                format!("assumption id `{}` is used twice", a.id),
+                Some("give each assumption its own id, e.g. A1, A2".into()),
+            );
+        }
+        seen.push(&a.id);
+    }
+    list
+}
+
+/// Consistency between sections, once each section is valid on its own.
+fn cross_checks(r: &Reader, d: &Design) {
+    let f1 = d.output.frequency.value;
+    let fsw = d.bridge.switching_frequency.value;
+    if fsw < 3.0 * f1 {
+        r.error(
+            &d.bridge.switching_frequency.key,
+            format!("the switching frequency {fsw} Hz is less than three times the output frequency {f1} Hz"),
+            Some("sine-triangle PWM needs a carrier well above the output frequency (usually over 20 times)".into()),
+        );
+    }
+}

@@ -1,0 +1,505 @@
+//! A walker over the parsed YAML that collects every problem instead of stopping at
+//! the first: each accessor records its key as known, reads and converts the value,
+//! and on failure adds a [`Diagnostic`] and returns `None` so validation goes on.
+
+use super::model::{Date, Given, InputLine};
+use super::spans::{Span, Spans};
+use crate::diag::{did_you_mean, Diagnostic, SourceText};
+use crate::units::{input_symbol, parse_value, Unit, UnitError};
+use serde_yaml::{Mapping, Value};
+use std::cell::RefCell;
+
+/// Shared state of one record's validation.
+pub struct Reader<'a> {
+    pub src: &'a SourceText,
+    spans: Spans,
+    errors: RefCell<Vec<Diagnostic>>,
+    inputs: RefCell<Vec<InputLine>>,
+}
+
+impl<'a> Reader<'a> {
+    pub fn new(src: &'a SourceText) -> Reader<'a> {
+        Reader {
+            src,
+            spans: Spans::index(&src.text),
+            errors: RefCell::new(Vec::new()),
+            inputs: RefCell::new(Vec::new()),
+        }
+    }
+
+    fn span(&self, path: &str) -> Span {
+        self.spans.value(path).unwrap_or(Span {
+            line: 0,
+            column: 1,
+            width: 1,
+        })
+    }
+
+    /// The line of the value at `path` (0 if unknown).
+    pub fn line(&self, path: &str) -> usize {
+        self.span(path).line
+    }
+
+    /// Adds an error at the value of `path`.
+    pub fn error(&self, path: &str, message: impl Into<String>, hint: Option<String>) {
+        let s = self.span(path);
+        let mut d = self.src.at(s.line, s.column, s.width, path, message);
+        d.hint = hint;
+        self.errors.borrow_mut().push(d);
+    }
+
+    /// Adds an error at the key of `path` (for keys that should not be there).
+    fn error_at_key(&self, path: &str, message: String, hint: Option<String>) {
+        let s = self.spans.key(path).unwrap_or_else(|| self.span(path));
+        let mut d = self.src.at(s.line, s.column, s.width, path, message);
+        d.hint = hint;
+        self.errors.borrow_mut().push(d);
+    }
+
+    /// Adds an error for a key missing from the mapping at `parent`, pointing at the
+    /// parent's own key line where there is one.
+    fn error_missing(&self, parent: &str, key: &str, hint: String) {
+        let s = self
+            .spans
+            .key(parent)
+            .or_else(|| self.spans.value(parent))
+            .unwrap_or(Span {
+                line: 0,
+                column: 1,
+                width: 1,
+            });
+        let path = join(parent, key);
+        let place = if parent.is_empty() {
+            "the record".to_string()
+        } else {
+            format!("`{parent}`")
+        };
+        let mut d = self.src.at(
+            s.line,
+            s.column,
+            s.width,
+            &path,
+            format!("missing key `{key}` in {place}"),
+        );
+        d.hint = Some(hint);
+        self.errors.borrow_mut().push(d);
+    }
+
+    pub fn has_errors(&self) -> bool {
+        !self.errors.borrow().is_empty()
+    }
+
+    pub fn into_parts(self) -> (Vec<Diagnostic>, Vec<InputLine>) {
+        (self.errors.into_inner(), self.inputs.into_inner())
+    }
+
+    fn note_input(&self, path: &str, text: String) {
+        self.inputs.borrow_mut().push(InputLine {
+            key: path.to_string(),
+            text,
+            line: self.line(path),
+        });
+    }
+
+    /// The top-level mapping of the record.
+    pub fn root<'r>(&'r self, value: &'r Value) -> Option<Section<'r, 'a>> {
+        match value {
+            Value::Mapping(map) => Some(Section::new(self, String::new(), map)),
+            _ => {
+                self.error(
+                    "",
+                    "a design record must be a mapping of keys",
+                    Some("start from a demo in `designs/`".to_string()),
+                );
+                None
+            }
+        }
+    }
+}
+
+fn join(parent: &str, key: &str) -> String {
+    if parent.is_empty() {
+        key.to_string()
+    } else {
+        format!("{parent}.{key}")
+    }
+}
+
+/// Text of a scalar as written (numbers and booleans as YAML prints them).
+fn scalar_text(v: &Value) -> Option<String> {
+    match v {
+        Value::String(s) => Some(s.clone()),
+        Value::Number(n) => Some(n.to_string()),
+        Value::Bool(b) => Some(b.to_string()),
+        _ => None,
+    }
+}
+
+fn kind_name(v: &Value) -> &'static str {
+    match v {
+        Value::Null => "nothing",
+        Value::Bool(_) => "a boolean",
+        Value::Number(_) => "a number",
+        Value::String(_) => "a text",
+        Value::Sequence(_) => "a list",
+        Value::Mapping(_) => "a mapping",
+        Value::Tagged(_) => "a tagged value",
+    }
+}
+
+/// Example text for a unit, used in hints.
+fn example(unit: Unit) -> &'static str {
+    match unit {
+        Unit::Volt => "400 V",
+        Unit::Ampere => "10 A",
+        Unit::Hertz => "20 kHz",
+        Unit::Watt => "2.2 kW",
+        Unit::Henry => "1.8 mH",
+        Unit::Farad => "10 uF",
+        Unit::Ohm => "12 ohm",
+        Unit::DegreeCelsius => "45 degC",
+        Unit::Percent => "5 %",
+        Unit::One => "0.95",
+        Unit::Second => "10 ms",
+        _ => "1",
+    }
+}
+
+/// One mapping of the record being read.
+pub struct Section<'r, 'a> {
+    reader: &'r Reader<'a>,
+    pub path: String,
+    map: &'r Mapping,
+    known: RefCell<Vec<&'static str>>,
+}
+
+impl<'r, 'a> Section<'r, 'a> {
+    fn new(reader: &'r Reader<'a>, path: String, map: &'r Mapping) -> Self {
+        Section {
+            reader,
+            path,
+            map,
+            known: RefCell::new(Vec::new()),
+        }
+    }
+
+    pub fn reader(&self) -> &'r Reader<'a> {
+        self.reader
+    }
+
+    pub fn key_path(&self, key: &str) -> String {
+        join(&self.path, key)
+    }
+
+    fn raw(&self, key: &'static str) -> Option<&'r Value> {
+        self.known.borrow_mut().push(key);
+        self.map.get(key).filter(|v| !v.is_null())
+    }
+
+    /// Whether the record writes this key (and marks it known).
+    pub fn has(&self, key: &'static str) -> bool {
+        self.raw(key).is_some()
+    }
+
+    /// Marks keys as known without reading them (read in another branch).
+    pub fn allow(&self, keys: &[&'static str]) {
+        self.known.borrow_mut().extend_from_slice(keys);
+    }
+
+    fn require(&self, key: &'static str, what: &str) -> Option<&'r Value> {
+        let v = self.raw(key);
+        if v.is_none() {
+            self.reader
+                .error_missing(&self.path, key, format!("add `{key}:` with {what}"));
+        }
+        v
+    }
+
+    /// A nested mapping that must be present.
+    pub fn section(&self, key: &'static str) -> Option<Section<'r, 'a>> {
+        let v = self.require(key, "a mapping of keys")?;
+        self.as_section(key, v)
+    }
+
+    /// A nested mapping that may be left out.
+    pub fn optional_section(&self, key: &'static str) -> Option<Section<'r, 'a>> {
+        let v = self.raw(key)?;
+        self.as_section(key, v)
+    }
+
+    fn as_section(&self, key: &str, v: &'r Value) -> Option<Section<'r, 'a>> {
+        let path = self.key_path(key);
+        match v {
+            Value::Mapping(m) => Some(Section::new(self.reader, path, m)),
+            other => {
+                self.reader.error(
+                    &path,
+                    format!(
+                        "`{key}` must be a mapping of keys, got {}",
+                        kind_name(other)
+                    ),
+                    Some(format!(
+                        "write `{key}:` on its own line with indented keys below"
+                    )),
+                );
+                None
+            }
+        }
+    }
+
+    /// A list that may be left out; each element handed to `each` with its path.
+    pub fn list<T>(
+        &self,
+        key: &'static str,
+        mut each: impl FnMut(&str, &'r Value) -> Option<T>,
+    ) -> Vec<T> {
+        let path = self.key_path(key);
+        match self.raw(key) {
+            None => Vec::new(),
+            Some(Value::Sequence(items)) => items
+                .iter()
+                .enumerate()
+                .filter_map(|(i, v)| each(&format!("{path}[{i}]"), v))
+                .collect(),
+            Some(other) => {
+                self.reader.error(
+                    &path,
+                    format!("`{key}` must be a list, got {}", kind_name(other)),
+                    Some("write each entry on a line starting with `- `".to_string()),
+                );
+                Vec::new()
+            }
+        }
+    }
+
+    /// A list element as a mapping.
+    pub fn element(&self, path: &str, v: &'r Value) -> Option<Section<'r, 'a>> {
+        match v {
+            Value::Mapping(m) => Some(Section::new(self.reader, path.to_string(), m)),
+            other => {
+                self.reader.error(
+                    path,
+                    format!("each entry must be a mapping, got {}", kind_name(other)),
+                    Some("write entries as `- { key: value, ... }`".to_string()),
+                );
+                None
+            }
+        }
+    }
+
+    fn text_of(&self, key: &'static str, v: &'r Value) -> Option<String> {
+        match scalar_text(v) {
+            Some(t) => Some(t),
+            None => {
+                self.reader.error(
+                    &self.key_path(key),
+                    format!("`{key}` must be a single value, got {}", kind_name(v)),
+                    None,
+                );
+                None
+            }
+        }
+    }
+
+    /// A required text value.
+    pub fn text(&self, key: &'static str) -> Option<String> {
+        let v = self.require(key, "a text")?;
+        let t = self.text_of(key, v)?;
+        if t.trim().is_empty() {
+            self.reader
+                .error(&self.key_path(key), format!("`{key}` is empty"), None);
+            return None;
+        }
+        self.reader.note_input(&self.key_path(key), t.clone());
+        Some(t)
+    }
+
+    /// An optional text value ("" when left out); not listed in the inputs table.
+    pub fn optional_text(&self, key: &'static str) -> String {
+        self.raw(key)
+            .and_then(|v| self.text_of(key, v))
+            .unwrap_or_default()
+    }
+
+    /// A required whole number.
+    pub fn integer(&self, key: &'static str) -> Option<i64> {
+        let v = self.require(key, "a whole number")?;
+        match v.as_i64() {
+            Some(n) => Some(n),
+            None => {
+                self.reader.error(
+                    &self.key_path(key),
+                    format!("`{key}` must be a whole number, got {}", kind_name(v)),
+                    None,
+                );
+                None
+            }
+        }
+    }
+
+    /// A required `YYYY-MM-DD` date.
+    pub fn date(&self, key: &'static str) -> Option<Date> {
+        let v = self.require(key, "a date like `2026-11-30`")?;
+        let t = self.text_of(key, v)?;
+        match parse_date(&t) {
+            Some(d) => {
+                self.reader.note_input(&self.key_path(key), t);
+                Some(d)
+            }
+            None => {
+                self.reader.error(
+                    &self.key_path(key),
+                    format!("`{t}` is not a date"),
+                    Some("write dates as YYYY-MM-DD, e.g. `2026-11-30`".to_string()),
+                );
+                None
+            }
+        }
+    }
+
+    /// One of a fixed set of words.
+    pub fn choice(&self, key: &'static str, options: &[&'static str]) -> Option<&'static str> {
+        let v = self.require(key, &format!("one of {}", options.join(", ")))?;
+        let t = self.text_of(key, v)?;
+        match options.iter().find(|o| **o == t) {
+            Some(o) => {
+                self.reader.note_input(&self.key_path(key), t);
+                Some(o)
+            }
+            None => {
+                let hint = match did_you_mean(&t, options) {
+                    Some(close) => format!("did you mean `{close}`?"),
+                    None => format!("choose one of: {}", options.join(", ")),
+                };
+                self.reader.error(
+                    &self.key_path(key),
+                    format!("`{t}` is not a valid `{key}`"),
+                    Some(hint),
+                );
+                None
+            }
+        }
+    }
+
+    fn convert(&self, key: &'static str, v: &'r Value, unit: Unit) -> Option<Given> {
+        let path = self.key_path(key);
+        let t = self.text_of(key, v)?;
+        match parse_value(&t, unit) {
+            Ok(value) if value.is_finite() => {
+                self.reader.note_input(&path, t);
+                Some(Given {
+                    value,
+                    line: self.reader.line(&path),
+                    key: path,
+                })
+            }
+            Ok(_) => {
+                self.reader
+                    .error(&path, format!("`{t}` is not a finite number"), None);
+                None
+            }
+            Err(e) => {
+                let message = match &e {
+                    UnitError::WrongDimension { expected, .. } => format!(
+                        "expected {} ({}), got `{t}`",
+                        expected.quantity_name(),
+                        input_symbol(*expected)
+                    ),
+                    other => format!("{other}: `{t}`"),
+                };
+                let hint = format!("write it with a unit, e.g. `{key}: {}`", example(unit));
+                self.reader.error(&path, message, Some(hint));
+                None
+            }
+        }
+    }
+
+    /// A required value with a unit, e.g. `inductance: 1.8 mH`.
+    pub fn quantity(&self, key: &'static str, unit: Unit) -> Option<Given> {
+        let v = self.require(
+            key,
+            &format!("{} such as `{}`", unit.quantity_name(), example(unit)),
+        )?;
+        self.convert(key, v, unit)
+    }
+
+    /// An optional value with a unit.
+    pub fn optional_quantity(&self, key: &'static str, unit: Unit) -> Option<Given> {
+        let v = self.raw(key)?;
+        self.convert(key, v, unit)
+    }
+
+    /// Reports keys of this mapping that no accessor asked for.
+    pub fn finish(&self) {
+        let known = self.known.borrow();
+        for (k, _) in self.map {
+            let Some(name) = k.as_str() else {
+                self.reader.error(
+                    &self.path,
+                    format!("a key in `{}` is not a plain word", self.path),
+                    None,
+                );
+                continue;
+            };
+            if known.contains(&name) {
+                continue;
+            }
+            let path = self.key_path(name);
+            let hint = match did_you_mean(name, &known) {
+                Some(close) => format!("did you mean `{close}`?"),
+                None => format!("known keys here: {}", known.join(", ")),
+            };
+            let place = if self.path.is_empty() {
+                "at the top of the record".to_string()
+            } else {
+                format!("in `{}`", self.path)
+            };
+            self.reader
+                .error_at_key(&path, format!("unknown key `{name}` {place}"), Some(hint));
+        }
+    }
+}
+
+/// `2026-11-30` -> Date, with month and day ranges checked (leap years included).
+pub fn parse_date(text: &str) -> Option<Date> {
+    let mut parts = text.trim().splitn(3, '-');
+    let year: i32 = parts.next()?.parse().ok()?;
+    let month: u8 = parts.next()?.parse().ok()?;
+    let day: u8 = parts.next()?.parse().ok()?;
+    let leap = (year % 4 == 0 && year % 100 != 0) || year % 400 == 0;
+    let days = match month {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
+        4 | 6 | 9 | 11 => 30,
+        2 if leap => 29,
+        2 => 28,
+        _ => return None,
+    };
+    if !(1..=days).contains(&day) || !(1900..=9999).contains(&year) {
+        return None;
+    }
+    Some(Date { year, month, day })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn dates_follow_the_gregorian_calendar() {
+        // Gregorian leap-year rule (ISO 8601-1:2019, 3.2.1): 2024 and 2000 leap, 1900 not.
+        assert!(parse_date("2024-02-29").is_some());
+        assert!(parse_date("2000-02-29").is_some());
+        assert!(parse_date("2023-02-29").is_none());
+        assert!(parse_date("1900-02-29").is_none());
+        assert!(parse_date("2026-13-01").is_none());
+        assert!(parse_date("2026-11-31").is_none());
+        assert_eq!(
+            parse_date("2026-11-30"),
+            Some(Date {
+                year: 2026,
+                month: 11,
+                day: 30
+            })
+        );
+    }
+}

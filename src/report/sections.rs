@@ -1,0 +1,537 @@
+//! The generated sections a template places, and the inline references it inserts.
+//!
+//! Sections hand their data to functions of the template's `style.typ` as typst
+//! values (strings, booleans, arrays); the look of the package lives in the style file,
+//! the numbers here.
+
+use super::markup::{content, string, text};
+use super::template::{self, Origin, Resolver};
+use crate::diag::{Diagnostic, SourceText};
+use crate::package::Stamp;
+use crate::record::Design;
+use crate::sheet::{math_value, plain_number, Quantity, Sheet, Source};
+use crate::units::{format_value, Unit};
+use std::collections::BTreeSet;
+
+/// A plot available to `@place plot NAME`.
+pub struct PlotRef {
+    pub name: &'static str,
+    pub caption: String,
+    /// Path of the SVG in the typst world.
+    pub asset: String,
+}
+
+/// The subjects of the calculation sections, in package order: (name, title, id prefixes).
+pub const SUBJECTS: &[(&str, &str, &[&str])] = &[
+    (
+        "operating-points",
+        "Operating points and load",
+        &["dc.", "output.", "bridge.", "load.", "limits.light_load"],
+    ),
+    ("filter", "Output filter", &["filter."]),
+    (
+        "modulation",
+        "Modulation",
+        &["modulation.", "limits.max_modulation_index"],
+    ),
+    ("limits", "Design limits", &["limits."]),
+];
+
+/// Which subject a quantity belongs to: the first whose prefixes match.
+pub fn subject_of(id: &str) -> &'static str {
+    SUBJECTS
+        .iter()
+        .find(|(_, _, prefixes)| prefixes.iter().any(|p| id.starts_with(p)))
+        .map_or("limits", |(name, _, _)| name)
+}
+
+/// The assumptions every evaluation makes, stated in every package.
+pub const ENGINE_ASSUMPTIONS: &[(&str, &str)] = &[
+    ("E1", "Switches and diodes are ideal: no forward drops, no dead time, instantaneous transitions."),
+    ("E2", "Filter components are ideal and lossless; L and C do not change with current, voltage, frequency or temperature."),
+    ("E3", "The load is a constant impedance: a resistance for the real power in parallel with an inductance for the reactive power of the lagging power factor."),
+    ("E4", "Modulation is sine-triangle PWM; modulation indices follow from switching-period averages of the bridge output."),
+    ("E5", "The DC voltage is constant at each operating point (no ripple at the output or switching frequency)."),
+];
+
+/// Everything the sections need.
+pub struct Context<'a> {
+    pub design: &'a Design,
+    pub sheet: &'a Sheet,
+    pub stamp: &'a Stamp,
+    pub plots: &'a [PlotRef],
+    pub record: &'a SourceText,
+    /// Sections placed so far; the cautions and assumptions are appended if a template
+    /// leaves them out, because no package may go without them.
+    pub placed: BTreeSet<String>,
+    /// Problems in the record's own Markdown (`description`, `notes`), at record lines.
+    pub record_errors: Vec<Diagnostic>,
+}
+
+fn err(message: String, hint: &str) -> (String, String) {
+    (message, hint.to_string())
+}
+
+const BLOCKS: &[&str] = &[
+    "title",
+    "revisions",
+    "checks",
+    "inputs",
+    "assumptions",
+    "cautions",
+    "description",
+    "notes",
+    "calculations",
+    "calculation",
+    "plot",
+    "pagebreak",
+    "contents",
+];
+
+impl Resolver for Context<'_> {
+    fn block(&mut self, name: &str, arg: Option<&str>) -> Result<String, (String, String)> {
+        let placed = match arg {
+            Some(a) => format!("{name} {a}"),
+            None => name.to_string(),
+        };
+        let out = match (name, arg) {
+            ("title", None) => self.title(),
+            ("revisions", None) => self.revisions(),
+            ("checks", None) => self.checks(),
+            ("inputs", None) => self.inputs(),
+            ("assumptions", None) => self.assumptions(),
+            ("cautions", None) => self.cautions(),
+            ("description", None) => self.record_markdown("project.description"),
+            ("notes", None) => self.record_markdown("notes"),
+            ("calculations", None) => {
+                let mut all = String::new();
+                for (subject, _, _) in SUBJECTS {
+                    all.push_str(&self.calculation(subject)?);
+                    self.placed.insert(format!("calculation {subject}"));
+                }
+                Ok(all)
+            }
+            ("calculation", Some(subject)) => self.calculation(subject),
+            ("plot", Some(plot)) => self.plot(plot),
+            ("pagebreak", None) => Ok("#pagebreak(weak: true)".to_string()),
+            ("contents", None) => Ok("#contents-block()".to_string()),
+            (known, _) if BLOCKS.contains(&known) => Err(err(
+                format!(
+                    "`@place {placed}` takes {}",
+                    if arg.is_some() {
+                        "no argument"
+                    } else {
+                        "an argument"
+                    }
+                ),
+                "see the directive list in the README, e.g. `@place calculation filter`",
+            )),
+            (unknown, _) => Err(match crate::diag::did_you_mean(unknown, BLOCKS) {
+                Some(close) => err(
+                    format!("unknown section `{unknown}`"),
+                    &format!("did you mean `{close}`?"),
+                ),
+                None => err(
+                    format!("unknown section `{unknown}`"),
+                    &format!("sections: {}", BLOCKS.join(", ")),
+                ),
+            }),
+        }?;
+        self.placed.insert(placed);
+        Ok(out)
+    }
+
+    fn inline(&mut self, reference: &str) -> Result<String, (String, String)> {
+        let (id, form) = match reference.split_once('|') {
+            Some((id, form)) => (id.trim(), Some(form.trim())),
+            None => (reference, None),
+        };
+        let p = &self.design.project;
+        let field = match id {
+            "project.id" => Some(p.id.clone()),
+            "project.title" => Some(p.title.clone()),
+            "project.revision" => Some(p.revision.clone()),
+            "project.date" => Some(p.date.to_string()),
+            "project.prepared_by" => Some(p.prepared_by.clone()),
+            _ => None,
+        };
+        if let Some(f) = field {
+            return match form {
+                None => Ok(text(&f)),
+                Some(other) => Err(err(
+                    format!("`{id}` is record text and has no `{other}` form"),
+                    "write it without `|...`",
+                )),
+            };
+        }
+        if let Some(c) = self.sheet.checks.iter().find(|c| c.id == id) {
+            return Ok(text(&format!(
+                "{} (margin {})",
+                if c.pass { "pass" } else { "FAIL" },
+                format_value(c.margin, Unit::Percent)
+            )));
+        }
+        let Some(q) = self.sheet.get(id) else {
+            let ids: Vec<&str> = self
+                .sheet
+                .quantities
+                .iter()
+                .map(|q| q.id.as_str())
+                .collect();
+            let hint = match crate::diag::did_you_mean(id, &ids) {
+                Some(close) => format!("did you mean `{close}`?"),
+                None => "`bridgebook check DESIGN --json` lists every id".to_string(),
+            };
+            return Err((format!("unknown result id `{id}`"), hint));
+        };
+        match form {
+            None => Ok(value_markup(q)),
+            Some("value") => Ok(text(&plain_number(q.value * display_factor(q.unit)))),
+            Some("symbol") => Ok(format!("${}$", q.symbol)),
+            Some("formula") => Ok(format!("${}$", equation_line(q))),
+            Some(other) => Err(err(
+                format!("unknown reference form `{other}`"),
+                "use `@{ID}`, `@{ID|value}`, `@{ID|symbol}` or `@{ID|formula}`",
+            )),
+        }
+    }
+}
+
+fn display_factor(unit: Unit) -> f64 {
+    match unit {
+        Unit::Percent => 100.0,
+        Unit::Degree => 180.0 / std::f64::consts::PI,
+        _ => 1.0,
+    }
+}
+
+/// A result as text with a non-breaking space before its unit: `1.186~kHz`.
+fn value_markup(q: &Quantity) -> String {
+    if let Some(class) = &q.class {
+        return text(class);
+    }
+    let shown = q.display();
+    match shown.split_once(' ') {
+        Some((n, u)) => format!("{}~{}", text(n), text(u)),
+        None => text(&shown),
+    }
+}
+
+/// The result in typst math: `1.186 "kHz"`, or the class in quotes.
+fn math_result(q: &Quantity) -> String {
+    match &q.class {
+        Some(class) => format!("\"{class}\""),
+        None => {
+            let v = math_value(q.value, q.unit);
+            v.strip_prefix('(')
+                .and_then(|v| v.strip_suffix(')'))
+                .map_or(v.clone(), str::to_string)
+        }
+    }
+}
+
+/// `symbol = formula = substituted = result` on one line (inline use).
+fn equation_line(q: &Quantity) -> String {
+    let mut parts = vec![q.symbol.clone()];
+    if !q.is_input() {
+        parts.push(q.formula.clone());
+        if q.substituted != q.formula {
+            parts.push(q.substituted.clone());
+        }
+    }
+    parts.push(math_result(q));
+    parts.join(" = ")
+}
+
+/// The aligned display equation of a calculation entry, one step per line.
+fn equation_block(q: &Quantity) -> String {
+    if q.is_input() || matches!(q.source, Source::CommonPractice { .. }) && q.inputs.is_empty() {
+        return format!("$ {} = {} $", q.symbol, math_result(q));
+    }
+    let mut lines = vec![format!("{} &= {}", q.symbol, q.formula)];
+    if q.substituted != q.formula {
+        lines.push(format!("&= {}", q.substituted));
+    }
+    lines.push(format!("&= {}", math_result(q)));
+    format!("$ {} $", lines.join(" \\\n"))
+}
+
+impl Context<'_> {
+    fn title(&self) -> Result<String, (String, String)> {
+        let p = &self.design.project;
+        let failing = self.sheet.checks.iter().filter(|c| !c.pass).count();
+        Ok(format!(
+            "#title-block(id: {}, title: {}, revision: {}, date: {}, prepared-by: {}, engine: {}, checks: {}, failing: {})",
+            string(&p.id),
+            string(&p.title),
+            string(&p.revision),
+            string(&p.date.to_string()),
+            string(&p.prepared_by),
+            string(&self.stamp.engine_version),
+            self.sheet.checks.len(),
+            failing
+        ))
+    }
+
+    fn revisions(&self) -> Result<String, (String, String)> {
+        let p = &self.design.project;
+        let mut rows: Vec<String> = p
+            .revisions
+            .iter()
+            .map(|r| {
+                format!(
+                    "({}, {}, {}, {})",
+                    string(&r.rev),
+                    string(&r.date.to_string()),
+                    string(&r.by),
+                    string(&r.change)
+                )
+            })
+            .collect();
+        if !p.revisions.iter().any(|r| r.rev == p.revision) {
+            rows.push(format!(
+                "({}, {}, {}, {})",
+                string(&p.revision),
+                string(&p.date.to_string()),
+                string(&p.prepared_by),
+                string("(this revision)")
+            ));
+        }
+        Ok(format!(
+            "#revision-block(current: {}, history: ({},), record-hash: {}, engine-hash: {}, engine: {}, prepared-by: {})",
+            string(&p.revision),
+            rows.join(", "),
+            string(&self.stamp.record_sha256),
+            string(&self.stamp.engine_sha256),
+            string(&self.stamp.engine_version),
+            string(&p.prepared_by),
+        ))
+    }
+
+    fn checks(&self) -> Result<String, (String, String)> {
+        let rows: Vec<String> = self
+            .sheet
+            .checks
+            .iter()
+            .map(|c| {
+                format!(
+                    "({}, {}, {}, {}, {}, {}, {})",
+                    string(&c.id),
+                    string(&c.statement),
+                    string(&format_value(c.value, c.unit)),
+                    string(&format!(
+                        "{} {}",
+                        c.relation.symbol(),
+                        format_value(c.limit, c.unit)
+                    )),
+                    string(&format_value(c.margin, Unit::Percent)),
+                    c.pass,
+                    string(&c.source.describe()),
+                )
+            })
+            .collect();
+        let warnings: Vec<String> = self
+            .sheet
+            .warnings
+            .iter()
+            .map(|w| string(&w.text))
+            .collect();
+        Ok(format!(
+            "#check-summary(({},), warnings: ({}))",
+            rows.join(", "),
+            if warnings.is_empty() {
+                String::new()
+            } else {
+                format!("{},", warnings.join(", "))
+            }
+        ))
+    }
+
+    fn inputs(&self) -> Result<String, (String, String)> {
+        let rows: Vec<String> = self
+            .design
+            .inputs
+            .iter()
+            .map(|i| {
+                format!(
+                    "({}, {}, {})",
+                    string(&i.key),
+                    string(&i.text),
+                    string(&i.line.to_string())
+                )
+            })
+            .collect();
+        Ok(format!(
+            "#inputs-table(({},), file: {})",
+            rows.join(", "),
+            string(&self.record.name)
+        ))
+    }
+
+    fn assumptions(&self) -> Result<String, (String, String)> {
+        let mut rows: Vec<String> = self
+            .design
+            .assumptions
+            .iter()
+            .map(|a| format!("({}, {})", string(&a.id), content(&a.text)))
+            .collect();
+        rows.extend(
+            ENGINE_ASSUMPTIONS
+                .iter()
+                .map(|(id, t)| format!("({}, {})", string(id), content(t))),
+        );
+        Ok(format!("#assumptions-list(({},))", rows.join(", ")))
+    }
+
+    fn cautions(&self) -> Result<String, (String, String)> {
+        let s = self.sheet;
+        let v_dc = format_value(s.value("dc.v_max"), Unit::Volt);
+        let v_pk = format_value(s.value("output.v_peak"), Unit::Volt);
+        let c = s.value("filter.capacitance");
+        let v = s.value("output.v_peak");
+        let energy = format_value(0.5 * c * v * v, Unit::Joule);
+        let items = [
+            format!("Hazardous voltage. The DC input reaches {v_dc} and the output peaks at {v_pk}; both can kill. Work on this equipment only de-energised, isolated and verified dead, by qualified persons."),
+            format!("Stored energy. Capacitors stay charged after the source is disconnected: the output filter capacitor alone holds up to {energy} at the output peak, and the DC-link capacitors (not evaluated in this package) usually hold far more. Measure before touching; do not rely on bleeder resistors."),
+            "This package does not replace review and sealing by a licensed professional engineer. Its numbers are only as good as the record's inputs and the stated assumptions.".to_string(),
+            "Local electrical codes, the authority having jurisdiction and the utility's interconnection rules prevail over anything in this package.".to_string(),
+        ];
+        let list: Vec<String> = items.iter().map(|i| content(i)).collect();
+        Ok(format!("#cautions-block(({},))", list.join(", ")))
+    }
+
+    fn record_markdown(&mut self, key: &str) -> Result<String, (String, String)> {
+        let md = match key {
+            "notes" => self.design.notes.clone(),
+            _ => self.design.project.description.clone(),
+        };
+        if md.trim().is_empty() {
+            return Ok(String::new());
+        }
+        let (first_line, indent) = block_position(self.record, key);
+        let record = self.record;
+        let origin = Origin {
+            source: record,
+            first_line,
+            indent,
+            key,
+        };
+        let mut inline = InlineOnly(self);
+        match template::to_typst(&md, &origin, &mut inline) {
+            Ok(markup) => Ok(markup),
+            Err(errors) => {
+                self.record_errors.extend(errors);
+                Ok(String::new())
+            }
+        }
+    }
+
+    fn calculation(&self, subject: &str) -> Result<String, (String, String)> {
+        let Some((name, title, _)) = SUBJECTS.iter().find(|(n, _, _)| *n == subject) else {
+            let names: Vec<&str> = SUBJECTS.iter().map(|s| s.0).collect();
+            return Err(err(
+                format!("unknown calculation `{subject}`"),
+                &format!("subjects: {}", names.join(", ")),
+            ));
+        };
+        let mut out = format!("#calc-section({})[\n", string(title));
+        for q in self
+            .sheet
+            .quantities
+            .iter()
+            .filter(|q| subject_of(&q.id) == *name)
+        {
+            out.push_str(&format!(
+                "#calc-entry(id: {}, name: {}, source: {}, input: {})[{}]\n",
+                string(&q.id),
+                string(&q.name),
+                string(&q.source.describe()),
+                q.is_input(),
+                equation_block(q)
+            ));
+        }
+        out.push(']');
+        Ok(out)
+    }
+
+    fn plot(&self, name: &str) -> Result<String, (String, String)> {
+        match self.plots.iter().find(|p| p.name == name) {
+            Some(p) => Ok(format!(
+                "#plot-figure({}, caption: {})",
+                string(&p.asset),
+                content(&p.caption)
+            )),
+            None => {
+                let names: Vec<&str> = self.plots.iter().map(|p| p.name).collect();
+                Err(err(
+                    format!("unknown plot `{name}`"),
+                    &format!("plots: {}", names.join(", ")),
+                ))
+            }
+        }
+    }
+
+    /// Typst for the sections a template must not omit, where it did.
+    pub fn mandatory_tail(&mut self) -> Result<String, (String, String)> {
+        let mut out = String::new();
+        for section in ["assumptions", "cautions"] {
+            if !self.placed.contains(section) {
+                out.push_str("\n\n");
+                out.push_str(&self.block(section, None)?);
+            }
+        }
+        Ok(out)
+    }
+}
+
+/// Where a YAML block scalar's text starts: the line after its key, and its indent.
+fn block_position(src: &SourceText, key: &str) -> (usize, usize) {
+    let leaf = key.rsplit('.').next().unwrap_or(key);
+    let needle = format!("{leaf}:");
+    for (i, line) in src.text.lines().enumerate() {
+        if line.trim_start().starts_with(&needle) {
+            let next = src.text.lines().nth(i + 1).unwrap_or("");
+            let indent = next.len() - next.trim_start().len();
+            return (i + 2, indent);
+        }
+    }
+    (1, 0)
+}
+
+/// Resolver for record text: inline references only.
+struct InlineOnly<'c, 'a>(&'c mut Context<'a>);
+
+impl Resolver for InlineOnly<'_, '_> {
+    fn block(&mut self, name: &str, _arg: Option<&str>) -> Result<String, (String, String)> {
+        Err(err(
+            format!("`@place {name}` is for templates, not for record text"),
+            "use inline references such as `@{filter.f0}` in the record",
+        ))
+    }
+    fn inline(&mut self, reference: &str) -> Result<String, (String, String)> {
+        self.0.inline(reference)
+    }
+}
+
+/// Problems in the inline references of the record's own Markdown, found without
+/// rendering a package (for `check` and `explain`).
+pub fn record_text_errors(record: &crate::record::Record, sheet: &Sheet) -> Vec<Diagnostic> {
+    let stamp = Stamp {
+        record_sha256: String::new(),
+        engine_sha256: String::new(),
+        engine_version: String::new(),
+    };
+    let mut ctx = Context {
+        design: &record.design,
+        sheet,
+        stamp: &stamp,
+        plots: &[],
+        record: &record.source,
+        placed: BTreeSet::new(),
+        record_errors: Vec::new(),
+    };
+    for key in ["project.description", "notes"] {
+        let _ = ctx.record_markdown(key);
+    }
+    ctx.record_errors
+}
