@@ -222,7 +222,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         "A_c",
         Unit::Decibel,
     )
-    .formula("-20 log_10 abs(H(j omega_c))")
+    .formula("-20 log_10 abs(H(j omega_c))_\"rated\"")
     .inputs(&["filter.gain_carrier.rated"])
     .value(-20.0 * g_c.log10());
 

@@ -268,10 +268,12 @@ fn read_source(s: Section) -> Option<DcSource> {
     let (min, nominal, max) = volts?;
     let (min, nominal, max) = (min?, nominal?, max?);
     let why = "DC inputs of this engine are above 0 V and at most 2 kV";
-    let all_ok = [&min, &nominal, &max]
+    // Collected first so that every absurd value is reported, not only the first.
+    let in_window: Vec<bool> = [&min, &nominal, &max]
         .iter()
         .map(|g| in_range(r, g, 0.0, 2000.0, Unit::Volt, why))
-        .fold(true, |a, b| a && b);
+        .collect();
+    let all_ok = in_window.iter().all(|ok| *ok);
     if all_ok && !(min.value <= nominal.value && nominal.value <= max.value) {
         r.error(
             &nominal.key,

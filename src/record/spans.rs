@@ -194,3 +194,19 @@ project:
         assert_eq!(parent("a"), None);
     }
 }
+#[cfg(test)]
+mod scratch_marks {
+    use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser};
+    use yaml_rust2::scanner::Marker;
+    struct P;
+    impl MarkedEventReceiver for P {
+        fn on_event(&mut self, ev: Event, m: Marker) {
+            println!("{:?} {}:{} idx {}", ev, m.line(), m.col(), m.index());
+        }
+    }
+    #[test]
+    fn scratch() {
+        let t = "a: 1\nfilter:\n  type: lc\n  x: [1, 2]\nl:\n  - 1\n  - { q: 1 }\nm:\n- 3\n";
+        Parser::new_from_str(t).load(&mut P, false).unwrap();
+    }
+}

@@ -36,7 +36,12 @@ fn filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
             let points = freqs
                 .iter()
                 .map(|&f| {
-                    let h = lc.response(case, f);
+                    // An unloaded lossless LC has an infinite peak exactly at f0; a sample
+                    // that lands there is moved by a millionth so it stays drawable.
+                    let mut h = lc.response(case, f);
+                    if !(h.norm().is_finite() && h.arg().is_finite()) {
+                        h = lc.response(case, f * (1.0 + 1e-6));
+                    }
                     // Unwrap the phase so that the curve does not jump at ±180°.
                     let mut phase = h.arg().to_degrees() + offset;
                     if phase - last > 180.0 {

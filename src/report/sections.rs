@@ -348,10 +348,14 @@ impl Context<'_> {
     }
 
     fn inputs(&self) -> Result<String, (String, String)> {
+        // Revision history and assumptions have their own sections.
         let rows: Vec<String> = self
             .design
             .inputs
             .iter()
+            .filter(|i| {
+                !i.key.starts_with("project.revisions") && !i.key.starts_with("assumptions")
+            })
             .map(|i| {
                 format!(
                     "({}, {}, {})",

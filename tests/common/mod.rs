@@ -1,0 +1,75 @@
+//! Helpers shared by the integration tests: scratch folders and running the binary.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+/// A scratch folder removed when dropped.
+pub struct Scratch(pub PathBuf);
+
+impl Scratch {
+    pub fn new(tag: &str) -> Scratch {
+        static COUNTER: AtomicUsize = AtomicUsize::new(0);
+        let n = COUNTER.fetch_add(1, Ordering::SeqCst);
+        let dir =
+            std::env::temp_dir().join(format!("bridgebook-test-{tag}-{}-{n}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).expect("create scratch dir");
+        Scratch(dir)
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.0
+    }
+
+    /// Writes a file into the folder and returns its path.
+    pub fn write(&self, name: &str, text: &str) -> PathBuf {
+        let p = self.0.join(name);
+        std::fs::write(&p, text).expect("write scratch file");
+        p
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+/// Runs the bridgebook binary with arguments.
+pub fn run(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_bridgebook"))
+        .args(args)
+        .output()
+        .expect("run bridgebook")
+}
+
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).to_string()
+}
+
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).to_string()
+}
+
+/// The text of a demo record in `designs/`.
+pub fn demo(name: &str) -> String {
+    let p = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("designs")
+        .join(name);
+    std::fs::read_to_string(&p).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
+}
+
+/// Every demo record, by file name.
+pub fn demos() -> Vec<String> {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("designs");
+    let mut names: Vec<String> = std::fs::read_dir(dir)
+        .expect("designs/")
+        .filter_map(|e| e.ok())
+        .map(|e| e.file_name().to_string_lossy().to_string())
+        .filter(|n| n.ends_with(".yaml"))
+        .collect();
+    names.sort();
+    names
+}
