@@ -13,6 +13,7 @@ pub use model::*;
 use crate::diag::{Diagnostic, Diagnostics, SourceText};
 use crate::units::Unit;
 use reader::{Reader, Section};
+use spans::Spans;
 use std::path::Path;
 
 /// The record format version this engine reads.
@@ -52,7 +53,7 @@ pub fn load_str(name: &str, text: &str) -> Result<Record, Diagnostics> {
     };
     let document: serde_yaml::Value = match serde_yaml::from_str(text) {
         Ok(v) => v,
-        Err(e) => return Err(Diagnostics(vec![syntax_error(&source, &e)])),
+        Err(e) => return Err(Diagnostics(syntax_errors(&source, &e))),
     };
     let reader = Reader::new(&source);
     let design = reader.root(&document).and_then(|root| read_design(root));
@@ -77,17 +78,63 @@ pub fn load_str(name: &str, text: &str) -> Result<Record, Diagnostics> {
     }
 }
 
-fn syntax_error(source: &SourceText, e: &serde_yaml::Error) -> Diagnostic {
+fn syntax_errors(source: &SourceText, e: &serde_yaml::Error) -> Vec<Diagnostic> {
     let (line, column) = e
         .location()
         .map(|l| (l.line(), l.column()))
         .unwrap_or((0, 1));
-    // serde_yaml appends " at line L column C" to its message; the place is shown apart.
+    // serde_yaml appends " at line L column C" to its message, then libyaml's context
+    // (", while parsing a flow mapping at line L column C"); the place is shown apart.
     let text = e.to_string();
     let tabs = text.contains("tab");
-    let message = match text.find(" at line ") {
-        Some(i) => text[..i].to_string(),
-        None => text,
+    let (message, context) = match text.find(" at line ") {
+        Some(i) => {
+            let rest = &text[i..];
+            let context = rest.find(", ").map(|j| rest[j + 2..].to_string());
+            (text[..i].to_string(), context)
+        }
+        None => (text.clone(), None),
+    };
+    if message.contains("duplicate entry") {
+        let repeated = duplicate_keys(source);
+        if !repeated.is_empty() {
+            return repeated;
+        }
+    }
+    let context_place = context.as_deref().and_then(|c| {
+        let i = c.find(" at line ")?;
+        let mut words = c[i + 9..].split(' ');
+        let l: usize = words.next()?.parse().ok()?;
+        let col: usize = words.nth(1)?.parse().ok()?;
+        Some((c[..i].to_string(), l, col))
+    });
+    // A flow collection that is not closed is found only where the parser gives up,
+    // often lines later; the line to fix is the one with its `{` or `[`.
+    if let Some((what, l, col)) = &context_place {
+        if let Some(kind) = what.strip_prefix("while parsing a flow ") {
+            let close = if kind.starts_with("mapping") {
+                '}'
+            } else {
+                ']'
+            };
+            return vec![source
+                .at(
+                    *l,
+                    *col,
+                    1,
+                    "",
+                    format!(
+                        "the record is not valid YAML: {message} in the flow {kind} that starts here (the parser stopped at line {line}, column {column})"
+                    ),
+                )
+                .with_hint(format!(
+                    "separate its entries with `, ` and close it with `{close}` on the same line"
+                ))];
+        }
+    }
+    let message = match &context_place {
+        Some((what, l, col)) => format!("{message} ({what} that starts at line {l}, column {col})"),
+        None => message,
     };
     let hint = if message.contains("duplicate entry") {
         "each key may appear once per mapping; remove or rename one of them"
@@ -96,7 +143,7 @@ fn syntax_error(source: &SourceText, e: &serde_yaml::Error) -> Diagnostic {
     } else {
         "check the indentation and the `key: value` form on this line and the one above"
     };
-    source
+    vec![source
         .at(
             line,
             column,
@@ -104,7 +151,38 @@ fn syntax_error(source: &SourceText, e: &serde_yaml::Error) -> Diagnostic {
             "",
             format!("the record is not valid YAML: {message}"),
         )
-        .with_hint(hint)
+        .with_hint(hint)]
+}
+
+/// Every key written twice in one mapping, each at its second writing. serde_yaml
+/// stops at the first and places it at the start of the mapping.
+fn duplicate_keys(source: &SourceText) -> Vec<Diagnostic> {
+    let spans = Spans::index(&source.text);
+    spans
+        .duplicates()
+        .iter()
+        .map(|(path, s)| {
+            let parent = spans::parent(path).unwrap_or("");
+            let key = path[parent.len()..].trim_start_matches('.');
+            let place = if parent.is_empty() {
+                "at the top of the record".to_string()
+            } else {
+                format!("in `{parent}`")
+            };
+            let first = spans.key(path).map_or(0, |k| k.line);
+            source
+                .at(
+                    s.line,
+                    s.column,
+                    s.width,
+                    path,
+                    format!("the record is not valid YAML: key `{key}` appears twice {place}"),
+                )
+                .with_hint(format!(
+                    "each key may appear once per mapping; `{key}` is first written on line {first}; remove or rename one of them"
+                ))
+        })
+        .collect()
 }
 
 fn read_design(root: Section) -> Option<Design> {
@@ -230,8 +308,7 @@ fn read_project(s: Section) -> Option<Project> {
     })
 }
 
-/// Checks `lo < value <= hi` (or `lo <= value` with `inclusive_lo`), reporting an
-/// absurd value at its key.
+/// Checks `lo < value <= hi`, reporting an absurd value at its key.
 fn in_range(r: &Reader, g: &Given, lo: f64, hi: f64, unit: Unit, why: &str) -> bool {
     use crate::units::format_value;
     let ok = g.value > lo && g.value <= hi;
@@ -239,7 +316,7 @@ fn in_range(r: &Reader, g: &Given, lo: f64, hi: f64, unit: Unit, why: &str) -> b
         r.error(
             &g.key,
             format!(
-                "`{}` = {} is outside {} to {}",
+                "`{}` = {} is outside the accepted range: above {}, at most {}",
                 g.key.rsplit('.').next().unwrap_or(&g.key),
                 format_value(g.value, unit),
                 format_value(lo, unit),

@@ -105,10 +105,13 @@ impl<'a> Reader<'a> {
     pub fn root<'r>(&'r self, value: &'r Value) -> Option<Section<'r, 'a>> {
         match value {
             Value::Mapping(map) => Some(Section::new(self, String::new(), map)),
-            _ => {
+            other => {
                 self.error(
                     "",
-                    "a design record must be a mapping of keys",
+                    format!(
+                        "a design record must be a mapping of keys, got {}",
+                        kind_name(other)
+                    ),
                     Some("start from a demo in `designs/`".to_string()),
                 );
                 None
@@ -147,8 +150,17 @@ fn kind_name(v: &Value) -> &'static str {
     }
 }
 
-/// Example text for a unit, used in hints.
-fn example(unit: Unit) -> &'static str {
+/// Example text for a key and its unit, used in hints; it must itself be valid there.
+fn example(key: &str, unit: Unit) -> &'static str {
+    match key {
+        "frequency" => return "50 Hz",
+        "carrier_peak" => return "5 V",
+        "resonance_ratio" | "min_resonance_ratio" => return "20",
+        "damping" | "max_resonance_fraction" => return "0.5",
+        "min_light_load_damping" => return "0.02",
+        "light_load" => return "10 %",
+        _ => {}
+    }
     match unit {
         Unit::Volt => "400 V",
         Unit::Ampere => "10 A",
@@ -209,8 +221,17 @@ impl<'r, 'a> Section<'r, 'a> {
     fn require(&self, key: &'static str, what: &str) -> Option<&'r Value> {
         let v = self.raw(key);
         if v.is_none() {
-            self.reader
-                .error_missing(&self.path, key, format!("add `{key}:` with {what}"));
+            if self.map.contains_key(key) {
+                // Written as `key:` with nothing after it (YAML null).
+                self.reader.error_at_key(
+                    &self.key_path(key),
+                    format!("`{key}` has no value"),
+                    Some(format!("write {what} after `{key}:`")),
+                );
+            } else {
+                self.reader
+                    .error_missing(&self.path, key, format!("add `{key}:` with {what}"));
+            }
         }
         v
     }
@@ -294,7 +315,9 @@ impl<'r, 'a> Section<'r, 'a> {
                 self.reader.error(
                     &self.key_path(key),
                     format!("`{key}` must be a single value, got {}", kind_name(v)),
-                    None,
+                    Some(format!(
+                        "write one value on the line of `{key}:`, not a list or a mapping"
+                    )),
                 );
                 None
             }
@@ -306,8 +329,11 @@ impl<'r, 'a> Section<'r, 'a> {
         let v = self.require(key, "a text")?;
         let t = self.text_of(key, v)?;
         if t.trim().is_empty() {
-            self.reader
-                .error(&self.key_path(key), format!("`{key}` is empty"), None);
+            self.reader.error(
+                &self.key_path(key),
+                format!("`{key}` is empty"),
+                Some(format!("write a text after `{key}:`")),
+            );
             return None;
         }
         self.reader.note_input(&self.key_path(key), t.clone());
@@ -330,7 +356,7 @@ impl<'r, 'a> Section<'r, 'a> {
                 self.reader.error(
                     &self.key_path(key),
                     format!("`{key}` must be a whole number, got {}", kind_name(v)),
-                    None,
+                    Some(format!("write digits only, e.g. `{key}: 1`")),
                 );
                 None
             }
@@ -350,7 +376,7 @@ impl<'r, 'a> Section<'r, 'a> {
                 self.reader.error(
                     &self.key_path(key),
                     format!("`{t}` is not a date"),
-                    Some("write dates as YYYY-MM-DD, e.g. `2026-11-30`".to_string()),
+                    Some(date_hint(&t)),
                 );
                 None
             }
@@ -394,8 +420,14 @@ impl<'r, 'a> Section<'r, 'a> {
                 })
             }
             Ok(_) => {
-                self.reader
-                    .error(&path, format!("`{t}` is not a finite number"), None);
+                self.reader.error(
+                    &path,
+                    format!("`{t}` is not a finite number"),
+                    Some(format!(
+                        "write an ordinary number, e.g. `{key}: {}`",
+                        example(key, unit)
+                    )),
+                );
                 None
             }
             Err(e) => {
@@ -407,7 +439,12 @@ impl<'r, 'a> Section<'r, 'a> {
                     ),
                     other => format!("{other}: `{t}`"),
                 };
-                let hint = format!("write it with a unit, e.g. `{key}: {}`", example(unit));
+                let hint = if matches!(unit, Unit::One) {
+                    // A ratio takes no unit (or `%`); "with a unit" would mislead.
+                    format!("write a plain number, e.g. `{key}: {}`", example(key, unit))
+                } else {
+                    format!("write it with a unit, e.g. `{key}: {}`", example(key, unit))
+                };
                 self.reader.error(&path, message, Some(hint));
                 None
             }
@@ -418,7 +455,7 @@ impl<'r, 'a> Section<'r, 'a> {
     pub fn quantity(&self, key: &'static str, unit: Unit) -> Option<Given> {
         let v = self.require(
             key,
-            &format!("{} such as `{}`", unit.quantity_name(), example(unit)),
+            &format!("{} such as `{}`", unit.quantity_name(), example(key, unit)),
         )?;
         self.convert(key, v, unit)
     }
@@ -437,7 +474,7 @@ impl<'r, 'a> Section<'r, 'a> {
                 self.reader.error(
                     &self.path,
                     format!("a key in `{}` is not a plain word", self.path),
-                    None,
+                    Some("write keys as plain words, e.g. `inductance:`".to_string()),
                 );
                 continue;
             };
@@ -460,24 +497,53 @@ impl<'r, 'a> Section<'r, 'a> {
     }
 }
 
-/// `2026-11-30` -> Date, with month and day ranges checked (leap years included).
-pub fn parse_date(text: &str) -> Option<Date> {
+/// The numbers of `YYYY-MM-DD`, unchecked.
+fn date_parts(text: &str) -> Option<(i32, u8, u8)> {
     let mut parts = text.trim().splitn(3, '-');
     let year: i32 = parts.next()?.parse().ok()?;
     let month: u8 = parts.next()?.parse().ok()?;
     let day: u8 = parts.next()?.parse().ok()?;
+    Some((year, month, day))
+}
+
+/// Days in a month of the Gregorian calendar; `None` for a month that is not 1 to 12.
+fn days_in_month(year: i32, month: u8) -> Option<u8> {
     let leap = (year % 4 == 0 && year % 100 != 0) || year % 400 == 0;
-    let days = match month {
-        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
-        4 | 6 | 9 | 11 => 30,
-        2 if leap => 29,
-        2 => 28,
-        _ => return None,
-    };
+    match month {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => Some(31),
+        4 | 6 | 9 | 11 => Some(30),
+        2 if leap => Some(29),
+        2 => Some(28),
+        _ => None,
+    }
+}
+
+/// `2026-11-30` -> Date, with month and day ranges checked (leap years included).
+pub fn parse_date(text: &str) -> Option<Date> {
+    let (year, month, day) = date_parts(text)?;
+    let days = days_in_month(year, month)?;
     if !(1..=days).contains(&day) || !(1900..=9999).contains(&year) {
         return None;
     }
     Some(Date { year, month, day })
+}
+
+/// Why a text is not a date, for the hint.
+fn date_hint(text: &str) -> String {
+    let shape = "write dates as YYYY-MM-DD, e.g. `2026-11-30`".to_string();
+    let Some((year, month, day)) = date_parts(text) else {
+        return shape;
+    };
+    if !(1900..=9999).contains(&year) {
+        return format!("{shape}, with a year from 1900 to 9999");
+    }
+    match days_in_month(year, month) {
+        None => format!("{shape}; months run from 01 to 12"),
+        Some(days) if day == 0 || day > days => {
+            format!("in the Gregorian calendar, month {month:02} of {year} has {days} days")
+        }
+        Some(_) => shape,
+    }
 }
 
 #[cfg(test)]

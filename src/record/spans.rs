@@ -21,6 +21,8 @@ pub struct Span {
 pub struct Spans {
     keys: BTreeMap<String, Span>,
     values: BTreeMap<String, Span>,
+    /// Keys written a second time in the same mapping, in text order.
+    duplicates: Vec<(String, Span)>,
 }
 
 impl Spans {
@@ -30,6 +32,7 @@ impl Spans {
         let mut builder = Builder {
             spans: Spans::default(),
             stack: Vec::new(),
+            pending: Vec::new(),
             text,
         };
         let mut parser = Parser::new_from_str(text);
@@ -42,6 +45,11 @@ impl Spans {
     /// The span of the key itself (`inductance:`), for unknown or misplaced keys.
     pub fn key(&self, path: &str) -> Option<Span> {
         self.keys.get(path).copied()
+    }
+
+    /// Keys that a mapping repeats, by path, at their second (or later) writing.
+    pub fn duplicates(&self) -> &[(String, Span)] {
+        &self.duplicates
     }
 
     /// The span of the value at `path`, falling back to its key, then to the nearest
@@ -64,13 +72,23 @@ pub fn parent(path: &str) -> Option<&str> {
 }
 
 enum Frame {
-    Map { path: String, key: Option<String> },
-    Seq { path: String, next: usize },
+    Map {
+        path: String,
+        key: Option<String>,
+        seen: Vec<String>,
+    },
+    Seq {
+        path: String,
+        next: usize,
+    },
 }
 
 struct Builder<'t> {
     spans: Spans,
     stack: Vec<Frame>,
+    /// Block collections without a key of their own (the root, list entries) that take
+    /// the place of the first thing written in them.
+    pending: Vec<String>,
     text: &'t str,
 }
 
@@ -87,7 +105,7 @@ impl Builder<'_> {
     fn next_value_path(&mut self) -> Option<String> {
         match self.stack.last_mut() {
             None => Some(String::new()),
-            Some(Frame::Map { path, key }) => key.take().map(|k| join(path, &k)),
+            Some(Frame::Map { path, key, .. }) => key.take().map(|k| join(path, &k)),
             Some(Frame::Seq { path, next }) => {
                 let p = format!("{path}[{next}]");
                 *next += 1;
@@ -117,11 +135,19 @@ impl MarkedEventReceiver for Builder<'_> {
         match ev {
             Event::Scalar(value, ..) => {
                 let width = self.written_width(&mark, &value);
-                if let Some(Frame::Map { path, key }) = self.stack.last_mut() {
+                for p in self.pending.drain(..) {
+                    self.spans.values.entry(p).or_insert(span(width));
+                }
+                if let Some(Frame::Map { path, key, seen }) = self.stack.last_mut() {
                     if key.is_none() {
                         let full = join(path, &value);
+                        if seen.contains(&value) {
+                            self.spans.duplicates.push((full, span(width)));
+                        } else {
+                            seen.push(value.clone());
+                            self.spans.keys.insert(full, span(width));
+                        }
                         *key = Some(value);
-                        self.spans.keys.insert(full, span(width));
                         return;
                     }
                 }
@@ -131,9 +157,29 @@ impl MarkedEventReceiver for Builder<'_> {
             }
             Event::MappingStart(..) | Event::SequenceStart(..) => {
                 let path = self.next_value_path().unwrap_or_default();
-                self.spans.values.entry(path.clone()).or_insert(span(1));
+                // Only a flow collection's mark is its own (`{` or `[`); yaml-rust2 marks a
+                // block collection somewhere inside its first entry. A block collection
+                // under a key is shown at its key; one without a key at its first entry.
+                let flow = self
+                    .text
+                    .get(mark.index()..)
+                    .unwrap_or("")
+                    .starts_with(['{', '[']);
+                if flow {
+                    let width = 1;
+                    for p in self.pending.drain(..) {
+                        self.spans.values.entry(p).or_insert(span(width));
+                    }
+                    self.spans.values.entry(path.clone()).or_insert(span(width));
+                } else if !self.spans.keys.contains_key(&path) {
+                    self.pending.push(path.clone());
+                }
                 self.stack.push(if matches!(ev, Event::MappingStart(..)) {
-                    Frame::Map { path, key: None }
+                    Frame::Map {
+                        path,
+                        key: None,
+                        seen: Vec::new(),
+                    }
                 } else {
                     Frame::Seq { path, next: 0 }
                 });
@@ -188,25 +234,35 @@ project:
     #[test]
     fn missing_paths_fall_back_to_the_parent() {
         let s = Spans::index(TEXT);
-        assert_eq!(s.value("filter.capacitance").map(|s| s.line), Some(3));
+        // A block mapping is shown at its key, `filter:` on line 2.
+        assert_eq!(s.value("filter.capacitance").map(|s| s.line), Some(2));
+        assert_eq!(s.value("filter").map(|s| (s.line, s.column)), Some((2, 1)));
+        // A flow mapping at its `{`; a block list entry at its first key.
+        assert_eq!(
+            s.value("project.revisions[0]").map(|s| (s.line, s.column)),
+            Some((7, 7))
+        );
+        assert_eq!(
+            s.value("project.revisions[1]").map(|s| (s.line, s.column)),
+            Some((8, 7))
+        );
+        // The root at the first key written.
+        assert_eq!(s.value("").map(|s| (s.line, s.column)), Some((1, 1)));
         assert_eq!(parent("a.b[2].c"), Some("a.b[2]"));
         assert_eq!(parent("a.b[2]"), Some("a.b"));
         assert_eq!(parent("a"), None);
     }
-}
-#[cfg(test)]
-mod scratch_marks {
-    use yaml_rust2::parser::{Event, MarkedEventReceiver, Parser};
-    use yaml_rust2::scanner::Marker;
-    struct P;
-    impl MarkedEventReceiver for P {
-        fn on_event(&mut self, ev: Event, m: Marker) {
-            println!("{:?} {}:{} idx {}", ev, m.line(), m.col(), m.index());
-        }
-    }
+
     #[test]
-    fn scratch() {
-        let t = "a: 1\nfilter:\n  type: lc\n  x: [1, 2]\nl:\n  - 1\n  - { q: 1 }\nm:\n- 3\n";
-        Parser::new_from_str(t).load(&mut P, false).unwrap();
+    fn finds_repeated_keys_of_one_mapping() {
+        let s = Spans::index("a:\n  b: 1\n  c: 2\n  b: 3\nd: { b: 1 }\n");
+        let dups: Vec<(&str, usize, usize)> = s
+            .duplicates()
+            .iter()
+            .map(|(p, s)| (p.as_str(), s.line, s.column))
+            .collect();
+        assert_eq!(dups, vec![("a.b", 4, 3)]);
+        // The first writing keeps its place.
+        assert_eq!(s.key("a.b").map(|s| s.line), Some(2));
     }
 }

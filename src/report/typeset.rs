@@ -237,7 +237,7 @@ impl<'a> DocumentWorld<'a> {
         }
         self.files
             .get(&id)
-            .ok_or_else(|| FileError::NotFound(id.vpath().as_rooted_path().to_path_buf()))
+            .ok_or_else(|| FileError::NotFound(id.vpath().get_with_slash().into()))
     }
 }
 
@@ -427,6 +427,17 @@ $ f_0 = 1/(2 pi sqrt(L C)) $
             contains(&pdf.bytes, b"/Count 2"),
             "page tree does not hold two pages"
         );
+
+        // The picture itself must reach the PDF: a recoloured SVG at the same
+        // path and size changes the bytes.
+        let mut assets = doc_assets();
+        assets[1].bytes = SVG.replace("#3366cc", "#cc6633").into_bytes();
+        let recoloured = compile(DOC, &assets).unwrap();
+        assert_eq!(recoloured.pages, 2);
+        assert_ne!(
+            recoloured.bytes, pdf.bytes,
+            "SVG content does not reach the PDF"
+        );
     }
 
     #[test]
@@ -590,8 +601,19 @@ $ f_0 = 1/(2 pi sqrt(L C)) $
         let start = Instant::now();
         let second = compile(&doc, &assets).unwrap();
         let warm = start.elapsed();
+        // A package rebuilt with one changed input is the common case in a
+        // benchmark run; it must still typeset, and differently.
+        let changed = doc.replacen("Section 3", "Section three", 1);
+        let start = Instant::now();
+        let third = compile(&changed, &assets).unwrap();
+        let edited = start.elapsed();
         assert_eq!(first.pages, 5);
         assert_eq!(first.bytes, second.bytes);
-        println!("five-page document: first compile {cold:?}, second compile {warm:?}");
+        assert_eq!(third.pages, 5);
+        assert_ne!(third.bytes, first.bytes);
+        println!(
+            "five-page document: first compile {cold:?}, identical rebuild {warm:?}, \
+             rebuild with one heading changed {edited:?}"
+        );
     }
 }
