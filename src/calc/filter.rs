@@ -297,34 +297,66 @@ fn gain_at(s: &mut Sheet, lc: &LcFilter, case: &LoadCase, point: Point) -> f64 {
         "rated" => ("R_\"ld\"", "X_\"ld\""),
         _ => ("R_\"ld,light\"", "X_\"ld,light\""),
     };
-    let mut inputs: Vec<String> = vec![
-        w_id.to_string(),
-        "filter.inductance".into(),
-        "filter.capacitance".into(),
-    ];
-    let mut real = format!("1 - {w_sym}^2 L C");
-    let mut imag = None;
-    if case.r.is_some() {
-        inputs.push(r_id);
-        imag = Some(format!("{w_sym} L / {r_sym}"));
-    }
-    if case.x.is_some() {
-        inputs.push("output.omega1".into());
-        inputs.push(x_id);
-        real.push_str(&format!(" + omega_1 L / {x_sym}"));
-    }
-    inputs.dedup();
-    let formula = match &imag {
-        Some(im) => format!("1 / sqrt(({real})^2 + ({im})^2)"),
-        None => format!("1 / abs({real})"),
-    };
-    let h = lc.response(case, f);
     let tag = match point {
         Point::Fundamental => "f1",
         Point::Carrier => "carrier",
     };
+    let case_text = case.key.replace('_', " ");
+    let sub = match point {
+        Point::Fundamental => "1",
+        Point::Carrier => "c",
+    };
+    let h = lc.response(case, f);
+    // The denominator 1 + jωL·Y_load, split into its real part a and imaginary part b
+    // so that each line of the package stays short enough to read.
+    let mut re_inputs = vec![w_id, "filter.inductance", "filter.capacitance"];
+    let mut re_formula = format!("1 - {w_sym}^2 L C");
+    if case.x.is_some() {
+        if !re_inputs.contains(&"output.omega1") {
+            re_inputs.push("output.omega1");
+        }
+        re_inputs.push(&x_id);
+        re_formula.push_str(&format!(" + omega_1 L / {x_sym}"));
+    }
+    let re_id = format!("filter.den_re_{tag}.{}", case.key);
+    let re_sym = format!("a_({sub},\"{case_text}\")");
+    s.derive(
+        &re_id,
+        &format!("Real part of 1 + jωL·Y at {where_}, {}", case.label),
+        &re_sym,
+        Unit::One,
+    )
+    .formula(&re_formula)
+    .inputs(&re_inputs)
+    .value((1.0 / h).re);
+    let im = case.r.map(|_| {
+        let im_id = format!("filter.den_im_{tag}.{}", case.key);
+        let im_sym = format!("b_({sub},\"{case_text}\")");
+        s.derive(
+            &im_id,
+            &format!("Imaginary part of 1 + jωL·Y at {where_}, {}", case.label),
+            &im_sym,
+            Unit::One,
+        )
+        .formula(&format!("{w_sym} L / {r_sym}"))
+        .inputs(&[w_id, "filter.inductance", &r_id])
+        .value((1.0 / h).im);
+        (im_id, im_sym)
+    });
+    let (formula, inputs, phase_formula) = match &im {
+        Some((im_id, im_sym)) => (
+            format!("1 / sqrt({re_sym}^2 + {im_sym}^2)"),
+            vec![re_id.clone(), im_id.clone()],
+            format!("-arg({re_sym} + j {im_sym})"),
+        ),
+        None => (
+            format!("1 / abs({re_sym})"),
+            vec![re_id.clone()],
+            format!("-arg({re_sym})"),
+        ),
+    };
     let refs: Vec<&str> = inputs.iter().map(String::as_str).collect();
-    let symbol = format!("abs(H(j {w_sym}))_\"{}\"", case.key.replace('_', " "));
+    let symbol = format!("abs(H(j {w_sym}))_\"{case_text}\"");
     let g = s
         .derive(
             &format!("filter.gain_{tag}.{}", case.key),
@@ -336,21 +368,28 @@ fn gain_at(s: &mut Sheet, lc: &LcFilter, case: &LoadCase, point: Point) -> f64 {
         .inputs(&refs)
         .value(h.norm());
     if point == Point::Fundamental {
-        let phase_formula = match &imag {
-            Some(im) => format!("-arctan(({im}) / ({real}))"),
-            None => format!("-arg({real})"),
-        };
         s.derive(
             &format!("filter.phase_f1.{}", case.key),
             &format!("Filter phase at f1, {}", case.label),
-            &format!("phi_(1,\"{}\")", case.key.replace('_', " ")),
+            &format!("phi_(1,\"{case_text}\")"),
             Unit::Degree,
         )
         .formula(&phase_formula)
         .inputs(&refs)
-        .value(h.arg());
+        .value(low_pass_phase(h));
     }
     g
+}
+
+/// The phase of a low-pass response in (-360°, 0°]: a lossless LC past resonance is at
+/// -180°, which `arg` would report as +180°.
+pub fn low_pass_phase(h: Complex64) -> f64 {
+    let phi = h.arg();
+    if phi > 1e-12 {
+        phi - 2.0 * PI
+    } else {
+        phi
+    }
 }
 
 fn checks(d: &Design, s: &mut Sheet, f0: f64, cases: &[LoadCase]) {

@@ -2,7 +2,7 @@
 //! figure can never disagree with the numbers beside it.
 
 use super::plot::{bode_svg, log_space, BodePlot, Curve, Marker, PlotError};
-use crate::calc::filter::filter_of;
+use crate::calc::filter::{filter_of, low_pass_phase};
 use crate::calc::operating_point::load_cases;
 use crate::record::Design;
 use crate::sheet::Sheet;
@@ -31,8 +31,6 @@ fn filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
     let curves: Vec<Curve> = load_cases(s)
         .iter()
         .map(|case| {
-            let mut last = 0.0;
-            let mut offset = 0.0;
             let points = freqs
                 .iter()
                 .map(|&f| {
@@ -42,17 +40,7 @@ fn filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
                     if !(h.norm().is_finite() && h.arg().is_finite()) {
                         h = lc.response(case, f * (1.0 + 1e-6));
                     }
-                    // Unwrap the phase so that the curve does not jump at ±180°.
-                    let mut phase = h.arg().to_degrees() + offset;
-                    if phase - last > 180.0 {
-                        offset -= 360.0;
-                        phase -= 360.0;
-                    } else if last - phase > 180.0 {
-                        offset += 360.0;
-                        phase += 360.0;
-                    }
-                    last = phase;
-                    (f, 20.0 * h.norm().log10(), phase)
+                    (f, 20.0 * h.norm().log10(), low_pass_phase(h).to_degrees())
                 })
                 .collect();
             Curve {
