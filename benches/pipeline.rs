@@ -72,8 +72,8 @@ fn main() {
         let first = build(&text);
         first_build.get_or_insert((name.clone(), first));
         let builds: Vec<Duration> = (0..BUILD_RUNS).map(|_| build(&text)).collect();
-        // A revision that changes the record each time (here the notes and the
-        // revision letter) defeats part of typst's memoisation, as real edits do.
+        // A revision that changes the record each time (here a sentence of the
+        // notes) defeats part of typst's memoisation, as real edits do.
         for i in 0..BUILD_RUNS {
             let edited = text.replacen("notes: |\n", &format!("notes: |\n  Edit {i}.\n"), 1);
             changed_builds.push(build(&edited));

@@ -26,7 +26,13 @@ pub const EXIT_BAD_INPUT: u8 = 2;
 ///
 /// Exit codes: 0 all design checks pass, 1 a design check fails, 2 bad input or usage.
 #[derive(Debug, Parser)]
-#[command(name = "bridgebook", version, about, long_about = None)]
+#[command(
+    name = "bridgebook",
+    version,
+    about,
+    long_about = None,
+    after_help = "Exit codes: 0 all design checks pass, 1 a design check fails (the package is still written, marked as failing), 2 bad input or usage (nothing is written)."
+)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
@@ -52,12 +58,15 @@ pub enum Command {
         /// Print every quantity and check as JSON (the results.json contract) instead.
         #[arg(long)]
         json: bool,
+        /// Templates whose hash goes into the JSON stamp, as `build --templates` would use.
+        #[arg(long)]
+        templates: Option<PathBuf>,
     },
     /// Show how one result was obtained: formula, numbers, source, and its inputs as a tree.
     Explain {
         /// The design record (YAML).
         design: PathBuf,
-        /// The result id, e.g. `modulation.m_a.min` (`check --json` lists them all).
+        /// A result or check id, e.g. `modulation.m_a.min` (`check --json` lists them all).
         id: String,
     },
 }
@@ -78,7 +87,9 @@ pub fn run(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> u8 {
     match run_inner(cli, out, err) {
         Ok(code) => code,
         Err(message) => {
-            let _ = writeln!(err, "{message}");
+            if !message.is_empty() {
+                let _ = writeln!(err, "{message}");
+            }
             EXIT_BAD_INPUT
         }
     }
@@ -93,17 +104,21 @@ fn verdict_code(sheet: &Sheet) -> u8 {
 }
 
 fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, String> {
-    let io = |e: std::io::Error| format!("error: cannot write output: {e}");
+    // A closed pipe (`bridgebook explain ... | head`) is not worth a message.
+    let io = |e: std::io::Error| {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            String::new()
+        } else {
+            format!("error: cannot write output: {e}")
+        }
+    };
     match &cli.command {
         Command::Build {
             design,
             out: out_dir,
             templates,
         } => {
-            let templates = match templates {
-                Some(dir) => Templates::from_dir(dir).map_err(|d| d.to_string())?,
-                None => Templates::builtin(),
-            };
+            let templates = load_templates(templates.as_deref())?;
             let (record, sheet) = evaluate(design).map_err(|d| d.to_string())?;
             let built =
                 package::build(&record, &sheet, &templates, out_dir).map_err(|e| match e {
@@ -124,10 +139,15 @@ fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, 
             writeln!(out, "  {}", built.dir.join("package.pdf").display()).map_err(io)?;
             Ok(verdict_code(&sheet))
         }
-        Command::Check { design, json } => {
+        Command::Check {
+            design,
+            json,
+            templates,
+        } => {
+            let templates = load_templates(templates.as_deref())?;
             let (record, sheet) = evaluate(design).map_err(|d| d.to_string())?;
             if *json {
-                let stamp = package::stamp(&record, &Templates::builtin());
+                let stamp = package::stamp(&record, &templates);
                 let doc = package::results_json(&record, &sheet, &stamp);
                 let text = serde_json::to_string_pretty(&doc)
                     .map_err(|e| format!("internal error: {e}, please report"))?;
@@ -140,8 +160,32 @@ fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, 
         }
         Command::Explain { design, id } => {
             let (_, sheet) = evaluate(design).map_err(|d| d.to_string())?;
+            if let Some(c) = sheet.checks.iter().find(|c| c.id == *id) {
+                writeln!(out, "{}  {}", c.id, c.statement).map_err(io)?;
+                writeln!(
+                    out,
+                    "  {}: {} {} {} (margin {})",
+                    c.verdict(),
+                    format_value(c.value, c.unit),
+                    c.relation.symbol(),
+                    format_value(c.limit, c.unit),
+                    format_value(c.margin, Unit::Percent)
+                )
+                .map_err(io)?;
+                writeln!(out, "  limit from: {}", c.source.describe()).map_err(io)?;
+                writeln!(out, "  checked value:").map_err(io)?;
+                if let Some(q) = sheet.get(&c.quantity) {
+                    explain(&sheet, q, out).map_err(io)?;
+                }
+                return Ok(EXIT_PASS);
+            }
             let Some(q) = sheet.get(id) else {
-                let ids: Vec<&str> = sheet.quantities.iter().map(|q| q.id.as_str()).collect();
+                let ids: Vec<&str> = sheet
+                    .quantities
+                    .iter()
+                    .map(|q| q.id.as_str())
+                    .chain(sheet.checks.iter().map(|c| c.id.as_str()))
+                    .collect();
                 let hint = match crate::diag::did_you_mean(id, &ids) {
                     Some(close) => format!("did you mean `{close}`?"),
                     None => "`bridgebook check DESIGN --json` lists every id".to_string(),
@@ -153,6 +197,13 @@ fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, 
             explain(&sheet, q, out).map_err(io)?;
             Ok(EXIT_PASS)
         }
+    }
+}
+
+fn load_templates(dir: Option<&std::path::Path>) -> Result<Templates, String> {
+    match dir {
+        Some(dir) => Templates::from_dir(dir).map_err(|d| d.to_string()),
+        None => Ok(Templates::builtin()),
     }
 }
 

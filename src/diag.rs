@@ -72,7 +72,7 @@ impl fmt::Display for Diagnostics {
         let n = self.0.len();
         write!(
             f,
-            "{n} error{} in the design record; nothing was written",
+            "{n} error{}; nothing was written",
             if n == 1 { "" } else { "s" }
         )
     }

@@ -65,7 +65,9 @@ impl Unit {
         }
     }
 
-    /// The name of the unit in `results.json`, ASCII only so that scripts can match it.
+    /// The name of the unit of the stored SI value in `results.json`, ASCII only so that
+    /// scripts can match it. Percent and degree values are stored as fractions and
+    /// radians, so their code is that of the stored value (`1`, `rad`).
     pub fn code(self) -> &'static str {
         match self {
             Unit::Volt => "V",
@@ -83,10 +85,9 @@ impl Unit {
             Unit::Joule => "J",
             Unit::DegreeCelsius => "degC",
             Unit::Kelvin => "K",
-            Unit::One => "1",
-            Unit::Percent => "%",
+            Unit::One | Unit::Percent => "1",
             Unit::Decibel => "dB",
-            Unit::Degree => "deg",
+            Unit::Degree => "rad",
         }
     }
 
@@ -123,7 +124,7 @@ impl Unit {
     }
 
     /// The value as printed in this unit (percent and degrees are scaled).
-    fn display_scale(self) -> f64 {
+    pub fn display_scale(self) -> f64 {
         match self {
             Unit::Percent => 100.0,
             Unit::Degree => 180.0 / std::f64::consts::PI,

@@ -165,6 +165,12 @@ impl Resolver for Context<'_> {
             };
         }
         if let Some(c) = self.sheet.checks.iter().find(|c| c.id == id) {
+            if let Some(other) = form {
+                return Err(err(
+                    format!("`{id}` is a check and has no `{other}` form"),
+                    "write it as `@{check.ID}` for its verdict and margin",
+                ));
+            }
             return Ok(text(&format!(
                 "{} (margin {})",
                 if c.pass { "pass" } else { "FAIL" },
@@ -186,7 +192,7 @@ impl Resolver for Context<'_> {
         };
         match form {
             None => Ok(value_markup(q)),
-            Some("value") => Ok(text(&plain_number(q.value * display_factor(q.unit)))),
+            Some("value") => Ok(text(&plain_number(q.value * q.unit.display_scale()))),
             Some("symbol") => Ok(format!("${}$", q.symbol)),
             Some("formula") => Ok(format!("${}$", equation_line(q))),
             Some(other) => Err(err(
@@ -197,12 +203,9 @@ impl Resolver for Context<'_> {
     }
 }
 
-fn display_factor(unit: Unit) -> f64 {
-    match unit {
-        Unit::Percent => 100.0,
-        Unit::Degree => 180.0 / std::f64::consts::PI,
-        _ => 1.0,
-    }
+/// A source as printed in the package: the terminal's backticks around keys dropped.
+fn pdf_source(source: &Source) -> String {
+    source.describe().replace('`', "")
 }
 
 /// A result as text with a non-breaking space before its unit: `1.186~kHz`.
@@ -326,7 +329,7 @@ impl Context<'_> {
                     )),
                     string(&format_value(c.margin, Unit::Percent)),
                     c.pass,
-                    string(&c.source.describe()),
+                    string(&pdf_source(&c.source)),
                 )
             })
             .collect();
@@ -368,7 +371,14 @@ impl Context<'_> {
         Ok(format!(
             "#inputs-table(({},), file: {})",
             rows.join(", "),
-            string(&self.record.name)
+            // The file name alone: the package must not depend on the path typed.
+            string(
+                &std::path::Path::new(&self.record.name)
+                    .file_name()
+                    .map_or(self.record.name.clone(), |n| n
+                        .to_string_lossy()
+                        .to_string())
+            )
         ))
     }
 
@@ -449,7 +459,7 @@ impl Context<'_> {
                 "#calc-entry(id: {}, name: {}, source: {}, input: {})[{}]\n",
                 string(&q.id),
                 string(&q.name),
-                string(&q.source.describe()),
+                string(&pdf_source(&q.source)),
                 q.is_input(),
                 equation_block(q)
             ));

@@ -155,6 +155,14 @@ impl Writer<'_, '_> {
         }
         let text = std::mem::take(&mut self.pending);
         let base = self.pending_at;
+        if let Some(at) = text.find("@place") {
+            self.error(
+                base + at,
+                6,
+                "`@place` must stand alone in its paragraph".into(),
+                "put the directive on its own line with blank lines around it".into(),
+            );
+        }
         let mut rest = text.as_str();
         let mut consumed = 0;
         while let Some(start) = rest.find("@{") {
