@@ -295,3 +295,80 @@ fn revisions_a_and_b_differ_where_the_record_changed() {
         bridgebook::package::stamp(&rb, &ta).record_sha256
     );
 }
+
+#[test]
+fn a_bad_template_is_reported_at_its_line_and_nothing_is_written() {
+    // bridgebook template rules: unknown sections and result ids are errors.
+    let scratch = Scratch::new("badtpl");
+    let tdir = scratch.path().join("tpl");
+    std::fs::create_dir_all(&tdir).unwrap();
+    std::fs::write(
+        tdir.join("package.md"),
+        "@place title\n\nThe resonance is @{filter.f00}.\n\n@place chekcs\n",
+    )
+    .unwrap();
+    std::fs::copy(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/style.typ"),
+        tdir.join("style.typ"),
+    )
+    .unwrap();
+    let out = scratch.path().join("out");
+    let o = run(&[
+        "build",
+        &design_path("ridge-pump-b.yaml"),
+        "--out",
+        out.to_str().unwrap(),
+        "--templates",
+        tdir.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = stderr(&o);
+    assert!(err.contains("package.md:3:18"), "{err}");
+    assert!(err.contains("unknown result id `filter.f00`"), "{err}");
+    assert!(err.contains("did you mean `filter.f0`?"), "{err}");
+    assert!(err.contains("package.md:5:1"), "{err}");
+    assert!(err.contains("did you mean `checks`?"), "{err}");
+    assert!(!out.exists(), "output written despite template errors");
+}
+
+#[test]
+fn a_broken_style_file_is_an_error_not_a_panic() {
+    let scratch = Scratch::new("badstyle");
+    let tdir = scratch.path().join("tpl");
+    std::fs::create_dir_all(&tdir).unwrap();
+    std::fs::copy(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/package.md"),
+        tdir.join("package.md"),
+    )
+    .unwrap();
+    std::fs::write(tdir.join("style.typ"), "#let package(body) = { body\n").unwrap();
+    let out = scratch.path().join("out");
+    let o = run(&[
+        "build",
+        &design_path("alder-hut.yaml"),
+        "--out",
+        out.to_str().unwrap(),
+        "--templates",
+        tdir.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(err.contains("could not be typeset"), "{err}");
+    assert!(err.contains("/style.typ"), "{err}");
+    assert!(!out.exists());
+    // A templates folder without its files is bad usage too.
+    let empty = scratch.path().join("empty");
+    std::fs::create_dir_all(&empty).unwrap();
+    let o = run(&[
+        "build",
+        &design_path("alder-hut.yaml"),
+        "--templates",
+        empty.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("cannot read template `package.md`"),
+        "{}",
+        stderr(&o)
+    );
+}
