@@ -3,37 +3,10 @@
 //! names the file, line, column and key path, quotes the source line, gives a hint,
 //! and nothing written. Expected lines are found in the edited text, never hard-coded.
 
-use std::path::{Path, PathBuf};
+mod common;
+
+use common::{demo, Scratch};
 use std::process::{Command, Output};
-use std::sync::atomic::{AtomicUsize, Ordering};
-
-/// A fresh folder under the system temp dir, removed when dropped.
-struct TempDir(PathBuf);
-
-impl TempDir {
-    fn new() -> TempDir {
-        static NEXT: AtomicUsize = AtomicUsize::new(0);
-        let n = NEXT.fetch_add(1, Ordering::SeqCst);
-        let dir =
-            std::env::temp_dir().join(format!("bridgebook-malformed-{}-{n}", std::process::id()));
-        let _ = std::fs::remove_dir_all(&dir);
-        std::fs::create_dir_all(&dir).expect("create temp dir");
-        TempDir(dir)
-    }
-}
-
-impl Drop for TempDir {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_dir_all(&self.0);
-    }
-}
-
-fn demo(name: &str) -> String {
-    let p = Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("designs")
-        .join(name);
-    std::fs::read_to_string(&p).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
-}
 
 /// Replaces the one occurrence of `from`; panics if the demo no longer has exactly one,
 /// so that a drifting demo fails the test instead of leaving the record valid.
@@ -91,17 +64,17 @@ fn output_of(o: Output) -> (Option<i32>, String, String) {
 
 /// Writes `text` as a record into a fresh temp dir and runs `bridgebook <command>` on it.
 fn run_on(command: &str, text: &str) -> Run {
-    let dir = TempDir::new();
-    let file = dir.0.join("design.yaml");
+    let dir = Scratch::new("malformed");
+    let file = dir.path().join("design.yaml");
     std::fs::write(&file, text).expect("write record");
-    let out = dir.0.join("out");
+    let out = dir.path().join("out");
     let mut cmd = Command::new(env!("CARGO_BIN_EXE_bridgebook"));
     cmd.arg(command).arg(&file);
     if command == "build" {
         cmd.arg("--out").arg(&out);
     }
     let (code, stderr, stdout) = output_of(cmd.output().expect("run bridgebook"));
-    let stray = std::fs::read_dir(&dir.0)
+    let stray = std::fs::read_dir(dir.path())
         .expect("list temp dir")
         .filter_map(|e| e.ok())
         .map(|e| e.file_name().to_string_lossy().to_string())
@@ -143,7 +116,7 @@ impl Run {
             self.stray
         );
         let summary = format!(
-            "{n} error{} in the design record; nothing was written",
+            "{n} error{}; nothing was written",
             if n == 1 { "" } else { "s" }
         );
         assert!(
@@ -802,9 +775,9 @@ fn record_that_is_a_list() {
 // bridgebook CLI: a record that cannot be read is bad input (exit 2), named in the error.
 #[test]
 fn nonexistent_file() {
-    let dir = TempDir::new();
-    let missing = dir.0.join("no-such-record.yaml");
-    let out = dir.0.join("out");
+    let dir = Scratch::new("malformed");
+    let missing = dir.path().join("no-such-record.yaml");
+    let out = dir.path().join("out");
     let (code, stderr, _) = output_of(
         Command::new(env!("CARGO_BIN_EXE_bridgebook"))
             .arg("build")
@@ -824,10 +797,7 @@ fn nonexistent_file() {
         "{stderr}"
     );
     assert!(stderr.contains("= hint: check the path"), "{stderr}");
-    assert!(
-        stderr.contains("1 error in the design record; nothing was written"),
-        "{stderr}"
-    );
+    assert!(stderr.contains("1 error; nothing was written"), "{stderr}");
     assert!(!out.exists(), "the output folder was created");
 }
 
@@ -867,7 +837,7 @@ fn three_errors_at_once() {
         "did you mean `half-bridge`?",
     );
     assert!(
-        r.stderr.contains("3 errors in the design record"),
+        r.stderr.contains("3 errors; nothing was written"),
         "{}",
         r.stderr
     );
