@@ -90,6 +90,11 @@ fn every_demo_builds_a_package() {
         let svg =
             std::fs::read_to_string(dir.join("filter-bode.svg")).expect("plot beside the PDF");
         assert!(svg.starts_with("<svg"));
+        let svg = std::fs::read_to_string(dir.join("modulation-window.svg")).expect("second plot");
+        assert!(
+            svg.contains("regulation limit"),
+            "{name}: limit line missing"
+        );
         let results: Value =
             serde_json::from_slice(&std::fs::read(dir.join("results.json")).unwrap()).unwrap();
         assert_contract(&results, &name);
@@ -123,6 +128,7 @@ fn the_package_has_every_section() {
         "#calc-section(\"Output filter\")",
         "#calc-section(\"Modulation\")",
         "#plot-figure(\"/plots/filter-bode.svg\"",
+        "#plot-figure(\"/plots/modulation-window.svg\"",
     ] {
         assert!(r.typst.contains(section), "missing {section}");
     }

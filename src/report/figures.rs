@@ -1,7 +1,9 @@
 //! The data behind each plot, computed with the same functions as the sheet so that a
 //! figure can never disagree with the numbers beside it.
 
-use super::plot::{bode_svg, log_space, BodePlot, Curve, Marker, PlotError};
+use super::plot::{
+    bode_svg, line_svg, log_space, BodePlot, Curve, Level, LinePlot, Marker, PlotError, Series,
+};
 use crate::calc::filter::{filter_of, low_pass_phase};
 use crate::calc::operating_point::load_cases;
 use crate::record::Design;
@@ -16,7 +18,7 @@ pub struct Figure {
 
 /// Every figure of a package.
 pub fn all(_design: &Design, sheet: &Sheet) -> Result<Vec<Figure>, PlotError> {
-    Ok(vec![filter_bode(sheet)?])
+    Ok(vec![filter_bode(sheet)?, modulation_window(sheet)?])
 }
 
 /// Gain and phase of the output filter from the switch node, for each load case.
@@ -52,11 +54,11 @@ fn filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
     let markers = vec![
         Marker {
             label: "f1".into(),
-            frequency: f1,
+            at: f1,
         },
         Marker {
             label: "f0".into(),
-            frequency: f0,
+            at: f0,
         },
         Marker {
             label: if (f_c - s.value("bridge.f_sw")).abs() < 1e-9 {
@@ -64,7 +66,7 @@ fn filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
             } else {
                 "2 fsw".into()
             },
-            frequency: f_c,
+            at: f_c,
         },
     ];
     let svg = bode_svg(
@@ -79,6 +81,75 @@ fn filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
     Ok(Figure {
         name: "filter-bode",
         caption: "Gain and phase of the LC output filter from the switch node to the output, for no load, light load and rated load; marks at the output frequency f1, the resonance f0 and the first carrier group.".to_string(),
+        svg,
+    })
+}
+
+/// The modulation index needed across the DC window and a margin around it, ideal and
+/// at rated load through the filter, against the regulation limit and the linear limit.
+///
+/// Both indices are inversely proportional to the DC voltage, so each curve is the
+/// sheet's value at DC minimum scaled by V_dc,min / V_dc: no second formula to drift.
+fn modulation_window(s: &Sheet) -> Result<Figure, PlotError> {
+    let v_min = s.value("dc.v_min");
+    let v_max = s.value("dc.v_max");
+    let v_lin = s.value("modulation.v_dc_min_linear");
+    let lo = 0.9 * v_min.min(v_lin);
+    let hi = 1.1 * v_max;
+    let n = 200;
+    let curve = |id: &str, label: &str| {
+        let m_at_min = s.value(id);
+        Series {
+            label: label.to_string(),
+            points: (0..=n)
+                .map(|i| {
+                    let v = lo + (hi - lo) * i as f64 / n as f64;
+                    (v, m_at_min * v_min / v)
+                })
+                .collect(),
+        }
+    };
+    let series = [
+        curve("modulation.m_a.min", "rated load, through the filter"),
+        curve("modulation.m_a_ideal.min", "ideal (no filter drop)"),
+    ];
+    let levels = [
+        Level {
+            label: "regulation limit".into(),
+            y: s.value("limits.max_modulation_index"),
+        },
+        Level {
+            label: "linear limit".into(),
+            y: 1.0,
+        },
+    ];
+    let markers: Vec<Marker> = [
+        ("min", "dc.v_min"),
+        ("nom", "dc.v_nominal"),
+        ("max", "dc.v_max"),
+        ("lin", "modulation.v_dc_min_linear"),
+    ]
+    .iter()
+    .map(|(label, id)| Marker {
+        label: label.to_string(),
+        at: s.value(id),
+    })
+    .collect();
+    let svg = line_svg(
+        &LinePlot {
+            title: "Modulation index over the DC input window",
+            x_label: "DC voltage (V)",
+            y_label: "Modulation index",
+            series: &series,
+            levels: &levels,
+            markers: &markers,
+        },
+        720,
+        420,
+    )?;
+    Ok(Figure {
+        name: "modulation-window",
+        caption: "Amplitude modulation index needed for the rated output across the DC voltage, ideal and at rated load through the filter; marks at the DC minimum, nominal and maximum and at the lowest DC voltage for linear modulation within the regulation limit.".to_string(),
         svg,
     })
 }

@@ -1,15 +1,20 @@
-//! Bode plots of the output filter: gain (dB) above phase (degrees) on a
-//! shared logarithmic frequency axis, one line per load case, written as an
-//! SVG document for the typst report.
+//! Plots for the typst report, written as SVG documents: Bode plots of the
+//! output filter (gain above phase on a shared logarithmic frequency axis,
+//! one line per load case) and general x-y line plots on linear axes (e.g.
+//! modulation index against DC voltage) with horizontal limit lines.
 //!
 //! plotters supplies the drawing primitives and the SVG writer, but the
 //! layout is computed here in pixel space instead of through plotters'
-//! chart/mesh builder. The mesh builder chooses its own "nice" log ticks and
-//! places labels where it likes; a calculation package needs decade grid
-//! lines with engineering labels, fixed 20 dB / 45° grids, and a legend and
-//! marker labels that can never sit on top of the curves. Doing the layout
-//! ourselves also keeps every coordinate a pure function of the input, which
-//! is what makes the output byte-reproducible.
+//! chart/mesh builder. The mesh builder chooses its own ticks and places
+//! labels where it likes; a calculation package needs decade grid lines
+//! with engineering labels, fixed 20 dB / 45° grids, and a legend, marker
+//! labels and limit labels that can never sit on top of the curves. Doing
+//! the layout ourselves also keeps every coordinate a pure function of the
+//! input, which is what makes the output byte-reproducible.
+//!
+//! Both plot kinds share one page grammar (title, legend, marker label row,
+//! panel(s), x tick labels, x axis title) and the helpers that lay it out
+//! and draw it, so the figures of a package look like one family.
 
 use std::error::Error;
 use std::fmt;
@@ -17,7 +22,7 @@ use std::fmt;
 use plotters::backend::SVGBackend;
 use plotters::coord::Shift;
 use plotters::drawing::{DrawingArea, IntoDrawingArea};
-use plotters::element::{PathElement, Text};
+use plotters::element::{Circle, PathElement, Text};
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use plotters::style::{FontStyle, FontTransform, IntoFont, RGBColor, ShapeStyle, TextStyle};
 
@@ -32,12 +37,13 @@ pub struct Curve {
     pub points: Vec<(f64, f64, f64)>,
 }
 
-/// A vertical reference line, e.g. the fundamental, the filter corner or
-/// the switching frequency.
+/// A vertical reference line at x = `at`, labelled above the plot: in a Bode
+/// plot a frequency in Hz (the fundamental, the filter corner, the switching
+/// frequency), in a line plot a value on its x axis (e.g. a DC voltage).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Marker {
     pub label: String,
-    pub frequency: f64,
+    pub at: f64,
 }
 
 /// Everything one Bode figure shows. An empty `title` leaves out the title
@@ -49,22 +55,63 @@ pub struct BodePlot<'a> {
     pub markers: &'a [Marker],
 }
 
+/// One line of an x-y plot. Points are joined in the order given, so a
+/// curve that doubles back (a locus, a hysteresis loop) is drawn as such; a
+/// line whose points all land on one spot is drawn as a dot. A series with
+/// an empty label is drawn but left out of the legend.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Series {
+    pub label: String,
+    pub points: Vec<(f64, f64)>,
+}
+
+/// A horizontal reference line at `y`, e.g. a limit, drawn dashed across the
+/// panel with its label just outside the right edge.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Level {
+    pub label: String,
+    pub y: f64,
+}
+
+/// Everything one x-y line figure shows: a single panel with linear axes
+/// whose ranges cover the series, levels and markers. An empty `title`
+/// leaves out the title line.
+#[derive(Debug, Clone, Copy)]
+pub struct LinePlot<'a> {
+    pub title: &'a str,
+    /// Axis titles with their unit, e.g. "DC voltage (V)".
+    pub x_label: &'a str,
+    pub y_label: &'a str,
+    pub series: &'a [Series],
+    pub levels: &'a [Level],
+    pub markers: &'a [Marker],
+}
+
 /// Why a plot could not be drawn. Bad data is reported, never drawn as
 /// garbage and never a panic.
 #[derive(Debug, Clone, PartialEq)]
 pub enum PlotError {
-    /// The plot has no curves at all.
+    /// The plot has no curves (Bode) or series (line plot) at all.
     NoCurves,
-    /// A curve has no points.
+    /// A curve or series has no points.
     EmptyCurve { label: String },
-    /// A point has a NaN or infinite frequency, gain or phase.
+    /// A point has a NaN or infinite coordinate.
     NonFinite { label: String, index: usize },
     /// A point's frequency is zero or negative, which a log axis cannot show.
     NonPositiveFrequency { label: String, index: usize },
-    /// A marker's frequency is not a finite positive number.
+    /// A marker's position is not finite (or, on a log frequency axis, not
+    /// above zero).
     BadMarker { label: String },
-    /// The canvas is too small to lay out two readable panels, or absurdly
-    /// large.
+    /// A level's value is not finite.
+    BadLevel { label: String },
+    /// Every x value, markers included, is the same (to nine significant
+    /// digits): a linear x axis needs some width to draw.
+    ZeroWidthRange { x: f64 },
+    /// The values on `axis` ('x' or 'y') span a range that overflows, or
+    /// one too small for the tick arithmetic (below about 1e-280).
+    UnusableRange { axis: char },
+    /// The canvas is too small to lay out the text and readable panels, or
+    /// absurdly large.
     BadSize { width: u32, height: u32 },
     /// The SVG writer failed (not expected when writing to a string).
     Drawing(String),
@@ -73,7 +120,7 @@ pub enum PlotError {
 impl fmt::Display for PlotError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            PlotError::NoCurves => write!(f, "Bode plot has no curves"),
+            PlotError::NoCurves => write!(f, "the plot has no curves to draw"),
             PlotError::EmptyCurve { label } => write!(f, "curve '{label}' has no points"),
             PlotError::NonFinite { label, index } => {
                 write!(f, "curve '{label}' point {index} is not a finite number")
@@ -84,14 +131,26 @@ impl fmt::Display for PlotError {
             ),
             PlotError::BadMarker { label } => write!(
                 f,
-                "marker '{label}' needs a finite frequency greater than zero"
+                "marker '{label}' needs a finite position (above zero on a frequency axis)"
+            ),
+            PlotError::BadLevel { label } => {
+                write!(f, "level '{label}' needs a finite value")
+            }
+            PlotError::ZeroWidthRange { x } => write!(
+                f,
+                "every point and marker is at x = {x}: the x axis needs a range of some width"
+            ),
+            PlotError::UnusableRange { axis } => write!(
+                f,
+                "the {axis} values span a range too wide (overflowing) or too small \
+                 (below about 1e-280) to put ticks on"
             ),
             PlotError::BadSize { width, height } => write!(
                 f,
-                "canvas {width} x {height} px cannot hold a Bode plot: too small for \
-                 the legend and two readable panels, or over {MAX_SIDE} px a side"
+                "canvas {width} x {height} px cannot hold the plot: too small for \
+                 its text and readable panels, or over {MAX_SIDE} px a side"
             ),
-            PlotError::Drawing(msg) => write!(f, "drawing the Bode plot failed: {msg}"),
+            PlotError::Drawing(msg) => write!(f, "drawing the plot failed: {msg}"),
         }
     }
 }
@@ -139,15 +198,41 @@ pub const LOG_SPACE_MAX_POINTS: usize = 10_000_000;
 /// Draws the plot as an SVG document, `width` x `height` in px (e.g. 720 x 560).
 pub fn bode_svg(plot: &BodePlot, width: u32, height: u32) -> Result<String, PlotError> {
     let data = validate(plot)?;
+    check_size(width, height)?;
+    let layout = Layout::new(plot, &data, width, height)?;
+    render_svg(width, height, |root| draw(root, plot, &data, &layout))
+}
+
+/// Draws the line plot as an SVG document, `width` x `height` in px (e.g.
+/// 720 x 440).
+pub fn line_svg(plot: &LinePlot, width: u32, height: u32) -> Result<String, PlotError> {
+    let view = validate_line(plot)?;
+    check_size(width, height)?;
+    let layout = LineLayout::new(plot, &view, width, height)?;
+    render_svg(width, height, |root| draw_line_plot(root, plot, &layout))
+}
+
+/// Refuses sizes whose oversampled drawing grid would overflow `u32`
+/// (checked before any layout multiplies by [`OVERSAMPLE`]).
+fn check_size(width: u32, height: u32) -> Result<(), PlotError> {
     if width > MAX_SIDE || height > MAX_SIDE {
         return Err(PlotError::BadSize { width, height });
     }
-    let layout = Layout::new(plot, &data, width, height)?;
+    Ok(())
+}
+
+/// Runs `paint` on an oversampled plotters SVG canvas and returns the
+/// document sized `width` x `height`.
+fn render_svg(
+    width: u32,
+    height: u32,
+    paint: impl FnOnce(&Area) -> DrawResult,
+) -> Result<String, PlotError> {
     let (iw, ih) = (width * OVERSAMPLE, height * OVERSAMPLE);
     let mut buf = String::new();
     {
         let root = SVGBackend::with_string(&mut buf, (iw, ih)).into_drawing_area();
-        draw(&root, plot, &data, &layout).map_err(|e| PlotError::Drawing(e.to_string()))?;
+        paint(&root).map_err(|e| PlotError::Drawing(e.to_string()))?;
         root.present()
             .map_err(|e| PlotError::Drawing(e.to_string()))?;
     }
@@ -209,6 +294,26 @@ const GAIN_STEPS_DB: [f64; 3] = [20.0, 40.0, 100.0];
 const PHASE_STEPS_DEG: [f64; 3] = [45.0, 90.0, 180.0];
 /// More grid intervals than this crowd the tick labels on a 200 px panel.
 const MAX_Y_INTERVALS: f64 = 8.0;
+
+/// Line plots: share of the data span left free on each side, so no line
+/// or marker sits on the frame, which would hide it.
+const LINE_MARGIN: f64 = 0.04;
+/// A span below this fraction of the values' magnitude counts as zero
+/// width: tick labels could not tell its ticks apart.
+const FLAT_RELATIVE: f64 = 1e-9;
+/// Linear tick steps are kept above this size: 10^-280 still leaves the
+/// tick arithmetic (and 10^-exponent) far from subnormals.
+const MIN_STEP_EXP: i32 = -280;
+/// Linear axes: at most this many tick intervals, and ticks at least this
+/// far apart (output px), so the grid guides the eye without crowding.
+const MAX_LIN_X_INTERVALS: f64 = 12.0;
+const MAX_LIN_Y_INTERVALS: f64 = 8.0;
+const MIN_X_TICK_SPACING: f64 = 64.0;
+const MIN_Y_TICK_SPACING: f64 = 32.0;
+/// Level labels: gap (output px) between leader end and text, and the
+/// height (in font sizes) kept clear around each label.
+const LEVEL_TEXT_GAP: f64 = 3.0;
+const LEVEL_ROW: f64 = 1.25;
 
 const INK: RGBColor = RGBColor(30, 30, 30);
 const FRAME: RGBColor = RGBColor(60, 60, 60);
@@ -287,15 +392,15 @@ fn validate(plot: &BodePlot) -> Result<Data, PlotError> {
         curves.push(pts);
     }
     for m in plot.markers {
-        if !m.frequency.is_finite() || m.frequency <= 0.0 {
+        if !m.at.is_finite() || m.at <= 0.0 {
             return Err(PlotError::BadMarker {
                 label: m.label.clone(),
             });
         }
         // A marker outside the data is still worth showing (e.g. fsw above
         // a sweep that stops short), so the axis grows to include it.
-        f_lo = f_lo.min(m.frequency);
-        f_hi = f_hi.max(m.frequency);
+        f_lo = f_lo.min(m.at);
+        f_hi = f_hi.max(m.at);
     }
     if f_hi / f_lo < 1.001 {
         // A single frequency has no span to draw; centre it in one decade.
@@ -304,6 +409,97 @@ fn validate(plot: &BodePlot) -> Result<Data, PlotError> {
         f_hi = c * 10f64.sqrt();
     }
     Ok(Data { curves, f_lo, f_hi })
+}
+
+/// The visible window of a line plot, data plus margins, in data units.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct View {
+    x_lo: f64,
+    x_hi: f64,
+    y_lo: f64,
+    y_hi: f64,
+}
+
+fn validate_line(plot: &LinePlot) -> Result<View, PlotError> {
+    if plot.series.is_empty() {
+        return Err(PlotError::NoCurves);
+    }
+    let (mut x_lo, mut x_hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    let (mut y_lo, mut y_hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    for series in plot.series {
+        if series.points.is_empty() {
+            return Err(PlotError::EmptyCurve {
+                label: series.label.clone(),
+            });
+        }
+        for (index, &(x, y)) in series.points.iter().enumerate() {
+            if !(x.is_finite() && y.is_finite()) {
+                return Err(PlotError::NonFinite {
+                    label: series.label.clone(),
+                    index,
+                });
+            }
+            x_lo = x_lo.min(x);
+            x_hi = x_hi.max(x);
+            y_lo = y_lo.min(y);
+            y_hi = y_hi.max(y);
+        }
+    }
+    // References outside the data still matter (a limit the design stays
+    // well clear of is the point of the figure), so the axes grow to them.
+    for level in plot.levels {
+        if !level.y.is_finite() {
+            return Err(PlotError::BadLevel {
+                label: level.label.clone(),
+            });
+        }
+        y_lo = y_lo.min(level.y);
+        y_hi = y_hi.max(level.y);
+    }
+    for m in plot.markers {
+        if !m.at.is_finite() {
+            return Err(PlotError::BadMarker {
+                label: m.label.clone(),
+            });
+        }
+        x_lo = x_lo.min(m.at);
+        x_hi = x_hi.max(m.at);
+    }
+    let (x_lo, x_hi) = match padded(x_lo, x_hi, 'x')? {
+        Some(range) => range,
+        None => return Err(PlotError::ZeroWidthRange { x: x_lo }),
+    };
+    // A constant series (a flat limit, an unregulated output) is a normal
+    // result, so a flat y range gets a window of its own around the value.
+    let (y_lo, y_hi) = match padded(y_lo, y_hi, 'y')? {
+        Some(range) => range,
+        None => {
+            let c = (y_lo + y_hi) / 2.0;
+            let half = if c == 0.0 { 1.0 } else { 0.1 * c.abs() };
+            (c - half, c + half)
+        }
+    };
+    Ok(View {
+        x_lo,
+        x_hi,
+        y_lo,
+        y_hi,
+    })
+}
+
+/// `lo..hi` widened by [`LINE_MARGIN`] on each side; `None` if the span is
+/// zero (see [`FLAT_RELATIVE`]), an error if it overflows.
+fn padded(lo: f64, hi: f64, axis: char) -> Result<Option<(f64, f64)>, PlotError> {
+    let span = hi - lo;
+    let pad = span * LINE_MARGIN;
+    let (l, h) = (lo - pad, hi + pad);
+    if !(span.is_finite() && l.is_finite() && h.is_finite()) {
+        return Err(PlotError::UnusableRange { axis });
+    }
+    if span <= FLAT_RELATIVE * lo.abs().max(hi.abs()) {
+        return Ok(None);
+    }
+    Ok(Some((l, h)))
 }
 
 // ---------------------------------------------------------------------------
@@ -429,6 +625,162 @@ fn format_tick(v: f64) -> String {
     }
 }
 
+/// A 1-2-5 tick step, `mantissa * 10^exp`, kept symbolic so that every tick
+/// is computed from an exact integer and one power of ten: `lo + i * step`
+/// would accumulate rounding error into the labels (0.30000000000000004).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Step {
+    mantissa: i64,
+    exp: i32,
+}
+
+impl Step {
+    /// The smallest 1-2-5 step not below `raw`, or `None` when `raw` is not
+    /// a positive number in the range the tick arithmetic handles.
+    fn at_least(raw: f64) -> Option<Step> {
+        if !(raw.is_finite() && raw > 0.0) {
+            return None;
+        }
+        // log10 can land a hair below an exact power of ten; starting one
+        // candidate low and walking up never skips the right step.
+        let mut step = Step {
+            mantissa: 1,
+            exp: raw.log10().floor() as i32,
+        };
+        if !(MIN_STEP_EXP..=300).contains(&step.exp) {
+            return None;
+        }
+        // The allowance keeps division noise (0.05000000000000001) from
+        // pushing the choice one step coarser than intended.
+        while step.value() < raw * (1.0 - 1e-9) {
+            step = step.next();
+        }
+        Some(step)
+    }
+
+    fn next(self) -> Step {
+        match self.mantissa {
+            1 => Step {
+                mantissa: 2,
+                ..self
+            },
+            2 => Step {
+                mantissa: 5,
+                ..self
+            },
+            _ => Step {
+                mantissa: 1,
+                exp: self.exp + 1,
+            },
+        }
+    }
+
+    fn value(self) -> f64 {
+        self.times(1)
+    }
+
+    /// `k` steps, rounded once: dividing by an exact 10^n is correctly
+    /// rounded, multiplying by an inexact 10^-n is not.
+    fn times(self, k: i64) -> f64 {
+        let n = (k * self.mantissa) as f64;
+        if self.exp >= 0 {
+            n * 10f64.powi(self.exp)
+        } else {
+            n / 10f64.powi(-self.exp)
+        }
+    }
+
+    /// The multiples of the step within `lo..=hi`, ascending. Callers keep
+    /// `(hi - lo) / step` small, so the count and `k` stay small too.
+    fn ticks(self, lo: f64, hi: f64) -> Vec<f64> {
+        let v = self.value();
+        // A tick a billionth of a step outside (rounding) still counts.
+        let first = (lo / v - 1e-9).ceil() as i64;
+        let last = (hi / v + 1e-9).floor() as i64;
+        (first..=last).map(|k| self.times(k)).collect()
+    }
+}
+
+/// The finest 1-2-5 step that divides `lo..hi` into at most `max_intervals`.
+fn lin_step(lo: f64, hi: f64, max_intervals: f64, axis: char) -> Result<Step, PlotError> {
+    Step::at_least((hi - lo) / max_intervals).ok_or(PlotError::UnusableRange { axis })
+}
+
+/// How one linear axis writes its tick labels: every label with the same
+/// number of decimals, exactly as many as the step needs (50 V steps give
+/// "650", 0.05 steps "0.75", "0.80"), so a column of labels lines up at
+/// the decimal point. Values of a million and up, or below 0.001 with a
+/// step finer than 0.0001, would be long strings of digits or of leading
+/// zeros; those axes are written as mantissa × 10ⁿ with one exponent for
+/// the whole axis, a multiple of three so it reads as an SI prefix
+/// (2×10⁻⁶ s is 2 µs). A fine step on values near 1 (1.00001, 1.00002)
+/// stays plain: there every digit carries information.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct NumberFormat {
+    decimals: usize,
+    /// Power of ten factored out of every label, if any.
+    exp: Option<i32>,
+}
+
+impl NumberFormat {
+    fn new(step: Step, ticks: &[f64]) -> NumberFormat {
+        let top = ticks.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        if top < 1e6 && (top >= 1e-3 || step.exp >= -4) {
+            return NumberFormat {
+                decimals: (-step.exp).max(0) as usize,
+                exp: None,
+            };
+        }
+        // Same allowance as format_hz: 999999.99999 (noise) is 10^6.
+        let exp = if top > 0.0 {
+            (top.log10() + 1e-9).floor() as i32
+        } else {
+            step.exp
+        }
+        .div_euclid(3)
+            * 3;
+        NumberFormat {
+            decimals: (exp - step.exp).max(0) as usize,
+            exp: Some(exp),
+        }
+    }
+
+    fn label(&self, v: f64) -> String {
+        let (mantissa, suffix) = match self.exp {
+            // A bare "0" reads better than "0.0×10⁶".
+            Some(_) if v == 0.0 => return "0".to_string(),
+            Some(e) if e >= 0 => (v / 10f64.powi(e), superscript_power(e)),
+            Some(e) => (v * 10f64.powi(-e), superscript_power(e)),
+            None => (v, String::new()),
+        };
+        let d = self.decimals;
+        let mut s = format!("{mantissa:.d$}");
+        if let Some(digits) = s.strip_prefix('-') {
+            // Rounding can leave "-0.00", which would read as a value below
+            // zero; anything else gets the typographic minus used in print.
+            s = if digits.chars().all(|c| c == '0' || c == '.') {
+                digits.to_string()
+            } else {
+                format!("\u{2212}{digits}")
+            };
+        }
+        s + &suffix
+    }
+}
+
+/// "×10⁶", "×10⁻⁵" for `exp`.
+fn superscript_power(exp: i32) -> String {
+    const DIGITS: [char; 10] = ['⁰', '¹', '²', '³', '⁴', '⁵', '⁶', '⁷', '⁸', '⁹'];
+    let mut s = String::from("×10");
+    if exp < 0 {
+        s.push('⁻');
+    }
+    for c in exp.unsigned_abs().to_string().bytes() {
+        s.push(DIGITS[usize::from(c - b'0')]);
+    }
+    s
+}
+
 /// Estimated rendered width of `text` at SVG font size `size`.
 fn text_width(text: &str, size: f64) -> f64 {
     let per_mille: u32 = text
@@ -518,6 +870,8 @@ impl Panel {
     }
 }
 
+/// A legend entry: which curve (or series) it names, and where its line
+/// sample starts (left end, vertical centre).
 struct LegendEntry {
     curve: usize,
     x: f64,
@@ -572,6 +926,175 @@ impl Sizes {
     }
 }
 
+/// The canvas in drawing units. All layout is done on the oversampled grid.
+fn canvas(width: u32, height: u32) -> (f64, f64) {
+    (
+        f64::from(width * OVERSAMPLE),
+        f64::from(height * OVERSAMPLE),
+    )
+}
+
+/// Centre of the rotated y-axis title column.
+fn y_title_x(s: &Sizes) -> f64 {
+    s.margin + 0.6 * s.axis_title
+}
+
+/// Left edge of the panels: the y-axis title column, tick labels up to
+/// `tick_label_w` wide, and a gap.
+fn panels_left(s: &Sizes, tick_label_w: f64) -> f64 {
+    s.margin + 1.4 * s.axis_title + tick_label_w + 8.0 * s.k
+}
+
+/// Space right of the panels: a margin, or half the last x tick label if
+/// that is wider (the label is centred on its tick, which may be the edge).
+fn right_margin(s: &Sizes, last_label_w: f64) -> f64 {
+    (s.margin + 8.0 * s.k).max(last_label_w / 2.0 + s.margin * 0.5)
+}
+
+/// Everything above the panels: title, legend, marker label row.
+struct Header {
+    title_y: f64,
+    legend: Vec<LegendEntry>,
+    /// Vertical centre of the marker label row.
+    marker_label_y: f64,
+    /// Where the (first) panel starts.
+    panel_top: f64,
+}
+
+/// Stacks title, legend and marker label row from the top of the canvas.
+/// `labels` are the curves' legend labels (empty ones get no entry).
+fn header(
+    s: &Sizes,
+    title: &str,
+    labels: &[&str],
+    plot_left: f64,
+    plot_right: f64,
+    has_markers: bool,
+) -> Header {
+    // Legend: one row if it fits, else a balanced grid (4 entries as
+    // 2 x 2 rather than 3 + 1) with each column as wide as its widest
+    // entry; centred over the plot.
+    let avail = plot_right - plot_left;
+    let entries: Vec<(usize, f64)> = labels
+        .iter()
+        .enumerate()
+        .filter(|(_, label)| !label.is_empty())
+        .map(|(i, label)| {
+            let w = s.legend_sample + s.legend_text_gap + text_width(label, s.legend);
+            (i, w)
+        })
+        .collect();
+    let mut legend_cols = entries.len().max(1);
+    let mut col_widths = Vec::new();
+    for cols in (1..=entries.len()).rev() {
+        let cols = entries.len().div_ceil(entries.len().div_ceil(cols));
+        col_widths = (0..cols)
+            .map(|c| {
+                entries
+                    .iter()
+                    .skip(c)
+                    .step_by(cols)
+                    .map(|e| e.1)
+                    .fold(0.0, f64::max)
+            })
+            .collect();
+        legend_cols = cols;
+        let total: f64 = col_widths.iter().sum::<f64>() + s.legend_gap * (cols - 1) as f64;
+        if total <= avail {
+            break;
+        }
+    }
+    let legend_w: f64 =
+        col_widths.iter().sum::<f64>() + s.legend_gap * legend_cols.saturating_sub(1) as f64;
+    let legend_rows = entries.len().div_ceil(legend_cols);
+    let col_x: Vec<f64> = col_widths
+        .iter()
+        .scan(0.0, |x, w| {
+            let here = *x;
+            *x += w + s.legend_gap;
+            Some(here)
+        })
+        .collect();
+
+    let mut y = s.margin;
+    let title_y = y + 0.5 * s.title * 1.3;
+    if !title.is_empty() {
+        y += s.title * 1.3 + 4.0 * s.k;
+    }
+    let legend_left = plot_left + ((avail - legend_w) / 2.0).max(0.0);
+    let legend: Vec<LegendEntry> = entries
+        .iter()
+        .enumerate()
+        .map(|(j, &(curve, _))| LegendEntry {
+            curve,
+            x: legend_left + col_x[j % legend_cols],
+            y: y + ((j / legend_cols) as f64 + 0.5) * s.legend_row,
+        })
+        .collect();
+    y += legend_rows as f64 * s.legend_row;
+    y += 6.0 * s.k;
+    let marker_label_y = y + 0.5 * s.marker_row;
+    if has_markers {
+        y += s.marker_row + s.leader;
+    }
+    Header {
+        title_y,
+        legend,
+        marker_label_y,
+        panel_top: y,
+    }
+}
+
+/// Everything below the panels: x tick labels, then the x axis title.
+struct Footer {
+    /// Where the (last) panel ends.
+    panel_bottom: f64,
+    /// Top of the x tick labels.
+    x_label_y: f64,
+    /// Vertical centre of the x axis title.
+    x_title_y: f64,
+}
+
+fn footer(s: &Sizes, h: f64) -> Footer {
+    let bottom_margin = s.margin * 0.6;
+    let x_title_h = s.axis_title * 1.5;
+    let x_label_h = s.tick * 1.6;
+    let panel_bottom = h - bottom_margin - x_title_h - x_label_h;
+    Footer {
+        panel_bottom,
+        x_label_y: panel_bottom + 5.0 * s.k,
+        x_title_y: panel_bottom + x_label_h + 0.5 * x_title_h,
+    }
+}
+
+/// Marker labels sit in one row above the panels, left to right in x
+/// order. Labels of close markers (f0 next to a second resonance) are
+/// pushed apart sideways and joined to their lines by slanted leaders,
+/// rather than overprinting. `x_of` maps a marker position to pixels; `w`
+/// is the canvas width.
+fn place_marker_labels(
+    s: &Sizes,
+    markers: &[Marker],
+    x_of: impl Fn(f64) -> f64,
+    w: f64,
+) -> Vec<MarkerLabel> {
+    let mut order: Vec<usize> = (0..markers.len()).collect();
+    order.sort_by(|&a, &b| markers[a].at.total_cmp(&markers[b].at));
+    let wanted: Vec<(f64, f64)> = order
+        .iter()
+        .map(|&i| {
+            let m = &markers[i];
+            (x_of(m.at), text_width(&m.label, s.marker))
+        })
+        .collect();
+    let centres = spread_labels(&wanted, 8.0 * s.k, s.margin, w - s.margin);
+    order
+        .iter()
+        .zip(centres)
+        .map(|(&marker, cx)| MarkerLabel { marker, cx })
+        .collect()
+}
+
 struct Layout {
     s: Sizes,
     log_lo: f64,
@@ -594,11 +1117,7 @@ struct Layout {
 impl Layout {
     fn new(plot: &BodePlot, data: &Data, width: u32, height: u32) -> Result<Layout, PlotError> {
         let s = Sizes::new(width, height);
-        // All layout is in the oversampled drawing units.
-        let (w, h) = (
-            f64::from(width * OVERSAMPLE),
-            f64::from(height * OVERSAMPLE),
-        );
+        let (w, h) = canvas(width, height);
         let too_small = PlotError::BadSize { width, height };
 
         let (mut g_min, mut g_max) = (f64::INFINITY, f64::NEG_INFINITY);
@@ -612,22 +1131,19 @@ impl Layout {
         let gain_axis = y_axis(g_min, g_max, &GAIN_STEPS_DB, Some(GAIN_CLIP_DB));
         let phase_axis = y_axis(p_min, p_max, &PHASE_STEPS_DEG, None);
 
-        // Horizontal: y-axis title column, tick labels, plot, right margin
-        // wide enough for a decade label centred on the right edge.
         let tick_label_w = gain_axis
             .ticks
             .iter()
             .chain(&phase_axis.ticks)
             .map(|&v| text_width(&format_tick(v), s.tick))
             .fold(0.0, f64::max);
-        let y_title_x = s.margin + 0.6 * s.axis_title;
-        let plot_left = s.margin + 1.4 * s.axis_title + tick_label_w + 8.0 * s.k;
+        let plot_left = panels_left(&s, tick_label_w);
         let ticks = x_ticks(data.f_lo, data.f_hi);
         let last_label_w = ticks
             .last()
             .map(|&f| text_width(&format_hz(f), s.tick))
             .unwrap_or(0.0);
-        let plot_right = w - (s.margin + 8.0 * s.k).max(last_label_w / 2.0 + s.margin * 0.5);
+        let plot_right = w - right_margin(&s, last_label_w);
         if plot_right - plot_left < 120.0 * s.k {
             return Err(too_small);
         }
@@ -651,105 +1167,21 @@ impl Layout {
             x_label_stride += 1;
         }
 
-        // Legend: one row if it fits, else a balanced grid (4 entries as
-        // 2 x 2 rather than 3 + 1) with each column as wide as its widest
-        // entry; centred over the plot.
-        let avail = plot_right - plot_left;
-        let entries: Vec<(usize, f64)> = plot
-            .curves
-            .iter()
-            .enumerate()
-            .filter(|(_, c)| !c.label.is_empty())
-            .map(|(i, c)| {
-                let w = s.legend_sample + s.legend_text_gap + text_width(&c.label, s.legend);
-                (i, w)
-            })
-            .collect();
-        let mut legend_cols = entries.len().max(1);
-        let mut col_widths = Vec::new();
-        for cols in (1..=entries.len()).rev() {
-            let cols = entries.len().div_ceil(entries.len().div_ceil(cols));
-            col_widths = (0..cols)
-                .map(|c| {
-                    entries
-                        .iter()
-                        .skip(c)
-                        .step_by(cols)
-                        .map(|e| e.1)
-                        .fold(0.0, f64::max)
-                })
-                .collect();
-            legend_cols = cols;
-            let total: f64 = col_widths.iter().sum::<f64>() + s.legend_gap * (cols - 1) as f64;
-            if total <= avail {
-                break;
-            }
-        }
-        let legend_w: f64 =
-            col_widths.iter().sum::<f64>() + s.legend_gap * legend_cols.saturating_sub(1) as f64;
-        let legend_rows = entries.len().div_ceil(legend_cols);
-        let col_x: Vec<f64> = col_widths
-            .iter()
-            .scan(0.0, |x, w| {
-                let here = *x;
-                *x += w + s.legend_gap;
-                Some(here)
-            })
-            .collect();
+        let marker_labels = place_marker_labels(&s, plot.markers, x_of, w);
+        let labels: Vec<&str> = plot.curves.iter().map(|c| c.label.as_str()).collect();
+        let head = header(
+            &s,
+            plot.title,
+            &labels,
+            plot_left,
+            plot_right,
+            !marker_labels.is_empty(),
+        );
 
-        // Marker labels sit in one row above the gain panel. Labels of
-        // close markers (f0 next to a second resonance) are pushed apart
-        // sideways and joined to their lines by slanted leaders, rather
-        // than overprinting.
-        let mut order: Vec<usize> = (0..plot.markers.len()).collect();
-        order.sort_by(|&a, &b| {
-            plot.markers[a]
-                .frequency
-                .total_cmp(&plot.markers[b].frequency)
-        });
-        let wanted: Vec<(f64, f64)> = order
-            .iter()
-            .map(|&i| {
-                let m = &plot.markers[i];
-                (x_of(m.frequency), text_width(&m.label, s.marker))
-            })
-            .collect();
-        let centres = spread_labels(&wanted, 8.0 * s.k, s.margin, w - s.margin);
-        let marker_labels: Vec<MarkerLabel> = order
-            .iter()
-            .zip(centres)
-            .map(|(&marker, cx)| MarkerLabel { marker, cx })
-            .collect();
-
-        // Vertical: title, legend, marker label band, gain panel, gap,
-        // phase panel, x tick labels, x axis title.
-        let mut y = s.margin;
-        let title_y = y + 0.5 * s.title * 1.3;
-        if !plot.title.is_empty() {
-            y += s.title * 1.3 + 4.0 * s.k;
-        }
-        let legend_left = plot_left + ((avail - legend_w) / 2.0).max(0.0);
-        let legend: Vec<LegendEntry> = entries
-            .iter()
-            .enumerate()
-            .map(|(j, &(curve, _))| LegendEntry {
-                curve,
-                x: legend_left + col_x[j % legend_cols],
-                y: y + ((j / legend_cols) as f64 + 0.5) * s.legend_row,
-            })
-            .collect();
-        y += legend_rows as f64 * s.legend_row;
-        y += 6.0 * s.k;
-        let marker_label_y = y + 0.5 * s.marker_row;
-        if !marker_labels.is_empty() {
-            y += s.marker_row + s.leader;
-        }
-        let gain_top = y;
-
-        let bottom_margin = s.margin * 0.6;
-        let x_title_h = s.axis_title * 1.5;
-        let x_label_h = s.tick * 1.6;
-        let phase_bottom = h - bottom_margin - x_title_h - x_label_h;
+        // Vertically: the header, gain panel, gap, phase panel, footer.
+        let gain_top = head.panel_top;
+        let foot = footer(&s, h);
+        let phase_bottom = foot.panel_bottom;
         let gap_panels = 18.0 * s.k;
         let both = phase_bottom - gain_top - gap_panels;
         if both < 120.0 * s.k {
@@ -763,10 +1195,10 @@ impl Layout {
         Ok(Layout {
             log_lo,
             log_hi,
-            title_y,
-            legend,
+            title_y: head.title_y,
+            legend: head.legend,
             marker_labels,
-            marker_label_y,
+            marker_label_y: head.marker_label_y,
             gain: Panel {
                 left: plot_left,
                 right: plot_right,
@@ -783,9 +1215,9 @@ impl Layout {
             },
             x_ticks: ticks,
             x_label_stride,
-            x_label_y: phase_bottom + 5.0 * s.k,
-            x_title_y: phase_bottom + x_label_h + 0.5 * x_title_h,
-            y_title_x,
+            x_label_y: foot.x_label_y,
+            x_title_y: foot.x_title_y,
+            y_title_x: y_title_x(&s),
             s,
         })
     }
@@ -793,6 +1225,189 @@ impl Layout {
     fn x(&self, f: f64) -> f64 {
         let (l, r) = (self.gain.left, self.gain.right);
         l + (f.log10() - self.log_lo) / (self.log_hi - self.log_lo) * (r - l)
+    }
+}
+
+/// A level's label right of the panel, vertically centred at `cy`.
+struct LevelLabel {
+    level: usize,
+    cy: f64,
+}
+
+struct LineLayout {
+    s: Sizes,
+    view: View,
+    title_y: f64,
+    legend: Vec<LegendEntry>,
+    marker_labels: Vec<MarkerLabel>,
+    marker_label_y: f64,
+    level_labels: Vec<LevelLabel>,
+    /// Per series: drawn as a dot, since all its points share one pixel.
+    dots: Vec<bool>,
+    panel: Panel,
+    x_ticks: Vec<f64>,
+    x_format: NumberFormat,
+    y_format: NumberFormat,
+    x_label_y: f64,
+    x_title_y: f64,
+    y_title_x: f64,
+}
+
+impl LineLayout {
+    fn new(plot: &LinePlot, view: &View, width: u32, height: u32) -> Result<LineLayout, PlotError> {
+        // How many y ticks fit depends on the panel height, which depends
+        // on the legend rows, which depend on the width the y tick labels
+        // leave. A trial layout with a generous height guess measures the
+        // panel; the real one picks its y ticks for that height.
+        let trial = LineLayout::build(plot, view, width, height, None)?;
+        let room = trial.panel.bottom - trial.panel.top;
+        LineLayout::build(plot, view, width, height, Some(room))
+    }
+
+    /// One layout pass; `panel_h` is the panel height to choose y ticks
+    /// for (`None`: as if the panel took the whole canvas height).
+    fn build(
+        plot: &LinePlot,
+        view: &View,
+        width: u32,
+        height: u32,
+        panel_h: Option<f64>,
+    ) -> Result<LineLayout, PlotError> {
+        let s = Sizes::new(width, height);
+        let (w, h) = canvas(width, height);
+        let too_small = PlotError::BadSize { width, height };
+        let foot = footer(&s, h);
+
+        let room = panel_h.unwrap_or(foot.panel_bottom - s.margin);
+        let max_y = (room / (MIN_Y_TICK_SPACING * s.k))
+            .floor()
+            .clamp(2.0, MAX_LIN_Y_INTERVALS);
+        let y_step = lin_step(view.y_lo, view.y_hi, max_y, 'y')?;
+        let y_ticks = y_step.ticks(view.y_lo, view.y_hi);
+        let y_format = NumberFormat::new(y_step, &y_ticks);
+        let tick_label_w = y_ticks
+            .iter()
+            .map(|&v| text_width(&y_format.label(v), s.tick))
+            .fold(0.0, f64::max);
+        let plot_left = panels_left(&s, tick_label_w);
+
+        // Level labels go right of the panel, after a short leader, where
+        // no curve can run through them.
+        let level_w = plot
+            .levels
+            .iter()
+            .map(|l| text_width(&l.label, s.marker))
+            .fold(0.0, f64::max);
+        let level_room = if plot.levels.is_empty() {
+            0.0
+        } else {
+            s.leader + LEVEL_TEXT_GAP * s.k + level_w + s.margin
+        };
+
+        // x ticks: the finest 1-2-5 step that keeps ticks apart on the
+        // widest panel the margins allow, coarsened until labels do not
+        // touch (they and the right margin depend on the step).
+        let span = view.x_hi - view.x_lo;
+        let widest_panel = w - plot_left - (s.margin + 8.0 * s.k).max(level_room);
+        let max_x = (widest_panel / (MIN_X_TICK_SPACING * s.k))
+            .floor()
+            .clamp(2.0, MAX_LIN_X_INTERVALS);
+        let mut x_step = lin_step(view.x_lo, view.x_hi, max_x, 'x')?;
+        let (x_ticks, x_format, plot_right) = loop {
+            let ticks = x_step.ticks(view.x_lo, view.x_hi);
+            let format = NumberFormat::new(x_step, &ticks);
+            let widths: Vec<f64> = ticks
+                .iter()
+                .map(|&v| text_width(&format.label(v), s.tick))
+                .collect();
+            let widest = widths.iter().copied().fold(0.0, f64::max);
+            let last_w = widths.last().copied().unwrap_or(0.0);
+            let right = w - right_margin(&s, last_w).max(level_room);
+            if right - plot_left < 120.0 * s.k {
+                return Err(too_small);
+            }
+            let spacing = x_step.value() / span * (right - plot_left);
+            // Each coarsening at least doubles the step, so this ends after
+            // a few rounds: one tick left has nothing to collide with.
+            if ticks.len() < 2 || spacing >= widest + 12.0 * s.k {
+                break (ticks, format, right);
+            }
+            x_step = x_step.next();
+        };
+        let x_of = |v: f64| plot_left + (v - view.x_lo) / span * (plot_right - plot_left);
+
+        let marker_labels = place_marker_labels(&s, plot.markers, x_of, w);
+        let labels: Vec<&str> = plot.series.iter().map(|c| c.label.as_str()).collect();
+        let head = header(
+            &s,
+            plot.title,
+            &labels,
+            plot_left,
+            plot_right,
+            !marker_labels.is_empty(),
+        );
+        if foot.panel_bottom - head.panel_top < 120.0 * s.k {
+            return Err(too_small);
+        }
+        let panel = Panel {
+            left: plot_left,
+            right: plot_right,
+            top: head.panel_top,
+            bottom: foot.panel_bottom,
+            axis: YAxis {
+                lo: view.y_lo,
+                hi: view.y_hi,
+                ticks: y_ticks,
+            },
+        };
+
+        // Level labels top to bottom; close levels (a limit just under
+        // another) are pushed apart vertically, as marker labels are
+        // sideways.
+        let mut order: Vec<usize> = (0..plot.levels.len()).collect();
+        order.sort_by(|&a, &b| plot.levels[b].y.total_cmp(&plot.levels[a].y));
+        let wanted: Vec<(f64, f64)> = order
+            .iter()
+            .map(|&i| (panel.y(plot.levels[i].y), LEVEL_ROW * s.marker))
+            .collect();
+        let centres = spread_labels(&wanted, 2.0 * s.k, panel.top, panel.bottom);
+        let level_labels = order
+            .iter()
+            .zip(centres)
+            .map(|(&level, cy)| LevelLabel { level, cy })
+            .collect();
+        let dots = plot
+            .series
+            .iter()
+            .map(|series| {
+                let pixel = |&(x, y): &(f64, f64)| px(x_of(x), panel.y(y));
+                let first = series.points.first().map(pixel);
+                series.points.iter().all(|p| Some(pixel(p)) == first)
+            })
+            .collect();
+
+        Ok(LineLayout {
+            view: *view,
+            title_y: head.title_y,
+            legend: head.legend,
+            marker_labels,
+            marker_label_y: head.marker_label_y,
+            level_labels,
+            dots,
+            panel,
+            x_ticks,
+            x_format,
+            y_format,
+            x_label_y: foot.x_label_y,
+            x_title_y: foot.x_title_y,
+            y_title_x: y_title_x(&s),
+            s,
+        })
+    }
+
+    fn x(&self, v: f64) -> f64 {
+        let (l, r) = (self.panel.left, self.panel.right);
+        l + (v - self.view.x_lo) / (self.view.x_hi - self.view.x_lo) * (r - l)
     }
 }
 
@@ -827,7 +1442,15 @@ fn draw(root: &Area, plot: &BodePlot, data: &Data, l: &Layout) -> DrawResult {
     }
     // Markers go under the curves: they are references, the curves are the
     // result.
-    draw_markers(root, plot, l)?;
+    draw_markers(
+        root,
+        s,
+        plot.markers,
+        &l.marker_labels,
+        |f| l.x(f),
+        l.marker_label_y,
+        &[&l.gain, &l.phase],
+    )?;
     for (i, pts) in data.curves.iter().enumerate() {
         let style = curve_style(i, s.k);
         let gain: Vec<(f64, f64)> = pts.iter().map(|&(f, g, _)| (l.x(f), l.gain.y(g))).collect();
@@ -842,26 +1465,8 @@ fn draw(root: &Area, plot: &BodePlot, data: &Data, l: &Layout) -> DrawResult {
         }
     }
     for panel in [&l.gain, &l.phase] {
-        // Frame last, so curve ends at the edges are tidied by it. Drawn as
-        // one polyline starting mid-edge so all four corners are mitred
-        // joins (plotters' rectangle has no stroke width).
-        let mid = (panel.left + panel.right) / 2.0;
-        let frame = [
-            (mid, panel.top),
-            (panel.right, panel.top),
-            (panel.right, panel.bottom),
-            (panel.left, panel.bottom),
-            (panel.left, panel.top),
-            (mid, panel.top),
-        ];
-        draw_line(root, &frame, &LineStyle::solid(&FRAME, stroke(s.k, 1.0)))?;
-        for &v in &panel.axis.ticks {
-            root.draw(&Text::new(
-                format_tick(v),
-                px(panel.left - 6.0 * s.k, panel.y(v)),
-                text_style(s.tick, &INK, HPos::Right, VPos::Center),
-            ))?;
-        }
+        draw_frame(root, s, panel)?;
+        draw_y_tick_labels(root, s, panel, format_tick)?;
     }
 
     // Shared frequency axis: labels under the phase panel only.
@@ -875,34 +1480,217 @@ fn draw(root: &Area, plot: &BodePlot, data: &Data, l: &Layout) -> DrawResult {
         }
     }
     let mid_x = (l.gain.left + l.gain.right) / 2.0;
-    root.draw(&Text::new(
-        "Frequency",
-        px(mid_x, l.x_title_y),
-        text_style(s.axis_title, &INK, HPos::Center, VPos::Center),
-    ))?;
+    draw_x_title(root, s, "Frequency", mid_x, l.x_title_y)?;
     for (panel, title) in [(&l.gain, "Gain (dB)"), (&l.phase, "Phase (°)")] {
+        draw_y_title(root, s, title, l.y_title_x, panel)?;
+    }
+    draw_title(root, s, plot.title, mid_x, l.title_y)?;
+    let labels: Vec<&str> = plot.curves.iter().map(|c| c.label.as_str()).collect();
+    draw_legend(root, s, &l.legend, &labels, |_| false)
+}
+
+fn draw_grid(root: &Area, l: &Layout, panel: &Panel) -> DrawResult {
+    let f_lo = 10f64.powf(l.log_lo);
+    let f_hi = 10f64.powf(l.log_hi);
+    let minor = multiples_in(f_lo, f_hi, &[2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]);
+    for f in minor {
+        draw_v_grid_line(root, &l.s, panel, l.x(f), &GRID_MINOR)?;
+    }
+    for &f in &l.x_ticks {
+        draw_v_grid_line(root, &l.s, panel, l.x(f), &GRID_MAJOR)?;
+    }
+    draw_h_grid(root, &l.s, panel)
+}
+
+fn draw_line_plot(root: &Area, plot: &LinePlot, l: &LineLayout) -> DrawResult {
+    let s = &l.s;
+    let p = &l.panel;
+    root.fill(&BACKGROUND)?;
+
+    for &v in &l.x_ticks {
+        // x = 0 is as much a reference as y = 0.
+        let color = if v == 0.0 { &GRID_ZERO } else { &GRID_MAJOR };
+        draw_v_grid_line(root, s, p, l.x(v), color)?;
+    }
+    draw_h_grid(root, s, p)?;
+    // References under the series, as in the Bode plot.
+    for level in plot.levels {
+        let y = p.y(level.y);
+        draw_line(root, &[(p.left, y), (p.right, y)], &reference_style(s))?;
+    }
+    draw_markers(
+        root,
+        s,
+        plot.markers,
+        &l.marker_labels,
+        |v| l.x(v),
+        l.marker_label_y,
+        &[p],
+    )?;
+    for (i, series) in plot.series.iter().enumerate() {
+        let style = curve_style(i, s.k);
+        let pts: Vec<(f64, f64)> = series
+            .points
+            .iter()
+            .map(|&(x, y)| (l.x(x), p.y(y)))
+            .collect();
+        if l.dots[i] {
+            // A line of one point (or of points closer than the drawing
+            // grid) has no length to stroke; a dot keeps it visible.
+            draw_dot(root, s, pts[0], &style)?;
+        } else {
+            draw_line(root, &pts, &style)?;
+        }
+    }
+    draw_frame(root, s, p)?;
+    draw_y_tick_labels(root, s, p, |v| l.y_format.label(v))?;
+    for &v in &l.x_ticks {
         root.draw(&Text::new(
-            title,
-            px(l.y_title_x, (panel.top + panel.bottom) / 2.0),
-            text_style(s.axis_title, &INK, HPos::Center, VPos::Center)
-                .transform(FontTransform::Rotate270),
+            l.x_format.label(v),
+            px(l.x(v), l.x_label_y),
+            text_style(s.tick, &INK, HPos::Center, VPos::Top),
         ))?;
     }
+    let mid_x = (p.left + p.right) / 2.0;
+    draw_x_title(root, s, plot.x_label, mid_x, l.x_title_y)?;
+    draw_y_title(root, s, plot.y_label, l.y_title_x, p)?;
+    draw_title(root, s, plot.title, mid_x, l.title_y)?;
+    let labels: Vec<&str> = plot.series.iter().map(|c| c.label.as_str()).collect();
+    draw_legend(root, s, &l.legend, &labels, |i| l.dots[i])?;
 
-    if !plot.title.is_empty() {
-        let style = (FONT_FAMILY, s.title * PLOTTERS_FONT_SCALE)
-            .into_font()
-            .style(FontStyle::Bold)
-            .color(&INK)
-            .pos(Pos::new(HPos::Center, VPos::Center));
-        root.draw(&Text::new(plot.title, px(mid_x, l.title_y), style))?;
-    }
-
-    for e in &l.legend {
-        let style = curve_style(e.curve, s.k);
-        draw_line(root, &[(e.x, e.y), (e.x + s.legend_sample, e.y)], &style)?;
+    // Level labels, each joined to its line's right end by a leader that
+    // slants only when the label had to move away from a close neighbour.
+    let solid = LineStyle::solid(&MARKER, stroke(s.k, 1.0));
+    for ll in &l.level_labels {
+        let level = &plot.levels[ll.level];
+        let end = p.right + s.leader;
+        draw_line(root, &[(p.right, p.y(level.y)), (end, ll.cy)], &solid)?;
         root.draw(&Text::new(
-            plot.curves[e.curve].label.as_str(),
+            level.label.as_str(),
+            px(end + LEVEL_TEXT_GAP * s.k, ll.cy),
+            text_style(s.marker, &INK, HPos::Left, VPos::Center),
+        ))?;
+    }
+    Ok(())
+}
+
+/// Thin grid line style.
+fn grid_style(s: &Sizes, color: &RGBColor) -> LineStyle {
+    LineStyle::solid(color, stroke(s.k, 0.75))
+}
+
+fn draw_v_grid_line(root: &Area, s: &Sizes, panel: &Panel, x: f64, color: &RGBColor) -> DrawResult {
+    draw_line(
+        root,
+        &[(x, panel.top), (x, panel.bottom)],
+        &grid_style(s, color),
+    )
+}
+
+/// Horizontal grid lines at the panel's y ticks.
+fn draw_h_grid(root: &Area, s: &Sizes, panel: &Panel) -> DrawResult {
+    for &v in &panel.axis.ticks {
+        // 0 dB / 0° / zero is the reference a reader looks for first.
+        let color = if v == 0.0 { &GRID_ZERO } else { &GRID_MAJOR };
+        let y = panel.y(v);
+        draw_line(
+            root,
+            &[(panel.left, y), (panel.right, y)],
+            &grid_style(s, color),
+        )?;
+    }
+    Ok(())
+}
+
+/// The panel outline, drawn after the curves so curve ends at the edges
+/// are tidied by it. One polyline starting mid-edge, so all four corners
+/// are mitred joins (plotters' rectangle has no stroke width).
+fn draw_frame(root: &Area, s: &Sizes, panel: &Panel) -> DrawResult {
+    let mid = (panel.left + panel.right) / 2.0;
+    let frame = [
+        (mid, panel.top),
+        (panel.right, panel.top),
+        (panel.right, panel.bottom),
+        (panel.left, panel.bottom),
+        (panel.left, panel.top),
+        (mid, panel.top),
+    ];
+    draw_line(root, &frame, &LineStyle::solid(&FRAME, stroke(s.k, 1.0)))
+}
+
+/// Tick labels left of the panel, right-aligned against it.
+fn draw_y_tick_labels(
+    root: &Area,
+    s: &Sizes,
+    panel: &Panel,
+    label: impl Fn(f64) -> String,
+) -> DrawResult {
+    for &v in &panel.axis.ticks {
+        root.draw(&Text::new(
+            label(v),
+            px(panel.left - 6.0 * s.k, panel.y(v)),
+            text_style(s.tick, &INK, HPos::Right, VPos::Center),
+        ))?;
+    }
+    Ok(())
+}
+
+/// Axis titles; an empty one is left out (its space stays, so figures
+/// with and without it line up).
+fn draw_x_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResult {
+    if title.is_empty() {
+        return Ok(());
+    }
+    root.draw(&Text::new(
+        title,
+        px(x, y),
+        text_style(s.axis_title, &INK, HPos::Center, VPos::Center),
+    ))
+}
+
+fn draw_y_title(root: &Area, s: &Sizes, title: &str, x: f64, panel: &Panel) -> DrawResult {
+    if title.is_empty() {
+        return Ok(());
+    }
+    root.draw(&Text::new(
+        title,
+        px(x, (panel.top + panel.bottom) / 2.0),
+        text_style(s.axis_title, &INK, HPos::Center, VPos::Center)
+            .transform(FontTransform::Rotate270),
+    ))
+}
+
+fn draw_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResult {
+    if title.is_empty() {
+        return Ok(());
+    }
+    let style = (FONT_FAMILY, s.title * PLOTTERS_FONT_SCALE)
+        .into_font()
+        .style(FontStyle::Bold)
+        .color(&INK)
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    root.draw(&Text::new(title, px(x, y), style))
+}
+
+/// Legend entries: a sample in the curve's style, then its label
+/// (`labels` indexed by curve). The sample is a line, or a dot for curves
+/// `is_dot` says are drawn as one, so the key looks like what it names.
+fn draw_legend(
+    root: &Area,
+    s: &Sizes,
+    entries: &[LegendEntry],
+    labels: &[&str],
+    is_dot: impl Fn(usize) -> bool,
+) -> DrawResult {
+    for e in entries {
+        let style = curve_style(e.curve, s.k);
+        if is_dot(e.curve) {
+            draw_dot(root, s, (e.x + s.legend_sample / 2.0, e.y), &style)?;
+        } else {
+            draw_line(root, &[(e.x, e.y), (e.x + s.legend_sample, e.y)], &style)?;
+        }
+        root.draw(&Text::new(
+            labels[e.curve],
             px(e.x + s.legend_sample + s.legend_text_gap, e.y),
             text_style(s.legend, &INK, HPos::Left, VPos::Center),
         ))?;
@@ -910,56 +1698,50 @@ fn draw(root: &Area, plot: &BodePlot, data: &Data, l: &Layout) -> DrawResult {
     Ok(())
 }
 
-fn draw_grid(root: &Area, l: &Layout, panel: &Panel) -> DrawResult {
-    let thin = |c: &RGBColor| LineStyle::solid(c, stroke(l.s.k, 0.75));
-    let f_lo = 10f64.powf(l.log_lo);
-    let f_hi = 10f64.powf(l.log_hi);
-    let minor = multiples_in(f_lo, f_hi, &[2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0]);
-    for f in minor {
-        let x = l.x(f);
-        draw_line(
-            root,
-            &[(x, panel.top), (x, panel.bottom)],
-            &thin(&GRID_MINOR),
-        )?;
-    }
-    for &f in &l.x_ticks {
-        let x = l.x(f);
-        draw_line(
-            root,
-            &[(x, panel.top), (x, panel.bottom)],
-            &thin(&GRID_MAJOR),
-        )?;
-    }
-    for &v in &panel.axis.ticks {
-        // 0 dB / 0° is the reference a reader looks for first.
-        let color = if v == 0.0 { &GRID_ZERO } else { &GRID_MAJOR };
-        let y = panel.y(v);
-        draw_line(root, &[(panel.left, y), (panel.right, y)], &thin(color))?;
-    }
-    Ok(())
+/// A filled dot in the curve's colour, for a curve with no length.
+fn draw_dot(root: &Area, s: &Sizes, (x, y): (f64, f64), style: &LineStyle) -> DrawResult {
+    root.draw(&Circle::new(
+        px(x, y),
+        stroke(s.k, 3.0),
+        style.shape.filled(),
+    ))
 }
 
-fn draw_markers(root: &Area, plot: &BodePlot, l: &Layout) -> DrawResult {
-    let s = &l.s;
-    let dashed = LineStyle {
+/// Dashed grey: marker and level lines, references rather than results.
+fn reference_style(s: &Sizes) -> LineStyle {
+    LineStyle {
         shape: ShapeStyle::from(&MARKER).stroke_width(stroke(s.k, 1.0)),
         dash: vec![5.0 * s.k, 3.0 * s.k],
-    };
+    }
+}
+
+/// Marker lines through every panel in `panels` (top to bottom), and their
+/// labels in the row above the first.
+fn draw_markers(
+    root: &Area,
+    s: &Sizes,
+    markers: &[Marker],
+    labels: &[MarkerLabel],
+    x_of: impl Fn(f64) -> f64,
+    label_y: f64,
+    panels: &[&Panel],
+) -> DrawResult {
+    let dashed = reference_style(s);
     let solid = LineStyle::solid(&MARKER, stroke(s.k, 1.0));
-    for ml in &l.marker_labels {
-        let m = &plot.markers[ml.marker];
-        let x = l.x(m.frequency);
-        for panel in [&l.gain, &l.phase] {
+    let top = panels.first().map_or(label_y, |p| p.top);
+    for ml in labels {
+        let m = &markers[ml.marker];
+        let x = x_of(m.at);
+        for panel in panels {
             draw_line(root, &[(x, panel.top), (x, panel.bottom)], &dashed)?;
         }
         // Leader from under the label to the line's top end; slanted only
         // when the label had to move aside.
-        let leader_top = l.marker_label_y + 0.5 * s.marker_row;
-        draw_line(root, &[(ml.cx, leader_top), (x, l.gain.top)], &solid)?;
+        let leader_top = label_y + 0.5 * s.marker_row;
+        draw_line(root, &[(ml.cx, leader_top), (x, top)], &solid)?;
         root.draw(&Text::new(
             m.label.as_str(),
-            px(ml.cx, l.marker_label_y),
+            px(ml.cx, label_y),
             text_style(s.marker, &INK, HPos::Center, VPos::Center),
         ))?;
     }
@@ -1142,7 +1924,7 @@ mod tests {
             .iter()
             .map(|&(l, f)| Marker {
                 label: l.to_string(),
-                frequency: f,
+                at: f,
             })
             .collect()
     }
@@ -1306,7 +2088,7 @@ mod tests {
         let ok = lowpass_curve("ok", 1e3, 0.3);
         let bad_marker = Marker {
             label: "fsw".into(),
-            frequency: f64::NAN,
+            at: f64::NAN,
         };
         assert_eq!(
             plot(std::slice::from_ref(&ok), &[bad_marker]),
@@ -1451,7 +2233,7 @@ mod tests {
             .iter()
             .map(|&(l, f)| Marker {
                 label: l.into(),
-                frequency: f,
+                at: f,
             })
             .collect();
         let plot = BodePlot {
@@ -1476,7 +2258,7 @@ mod tests {
             .iter()
             .filter(|m| m.marker == 0 || m.marker == 3)
         {
-            let x = layout.x(markers[m.marker].frequency);
+            let x = layout.x(markers[m.marker].at);
             assert!((m.cx - x).abs() < 1e-9);
         }
     }
@@ -1499,6 +2281,425 @@ mod tests {
         assert_eq!(c.len(), 3);
         assert!(c[2] + 15.0 <= 1000.0 + 1e-9);
         assert!(c.windows(2).all(|p| p[1] - p[0] >= 34.0 - 1e-9));
+    }
+
+    // -- Line plots ---------------------------------------------------------
+
+    fn modulation_series(label: &str, v_peak: f64) -> Series {
+        Series {
+            label: label.to_string(),
+            points: (0..=50)
+                .map(|i| {
+                    let v_dc = 650.0 + 5.0 * f64::from(i);
+                    (v_dc, 2.0 * v_peak / v_dc)
+                })
+                .collect(),
+        }
+    }
+
+    fn sample_series() -> Vec<Series> {
+        vec![
+            modulation_series("Rated output (330.5 V peak)", 330.5),
+            modulation_series("Light load (325.3 V peak)", 325.3),
+        ]
+    }
+
+    fn sample_levels() -> Vec<Level> {
+        vec![
+            Level {
+                label: "limit".into(),
+                y: 0.95,
+            },
+            Level {
+                label: "linear limit".into(),
+                y: 1.0,
+            },
+        ]
+    }
+
+    fn voltage_markers() -> Vec<Marker> {
+        [("min", 720.0), ("nom", 760.0), ("max", 820.0)]
+            .iter()
+            .map(|&(l, at)| Marker {
+                label: l.into(),
+                at,
+            })
+            .collect()
+    }
+
+    fn line_plot<'a>(
+        series: &'a [Series],
+        levels: &'a [Level],
+        markers: &'a [Marker],
+    ) -> LinePlot<'a> {
+        LinePlot {
+            title: "Modulation index over the DC link range",
+            x_label: "DC voltage (V)",
+            y_label: "Modulation index",
+            series,
+            levels,
+            markers,
+        }
+    }
+
+    fn sample_line_svg() -> String {
+        let (series, levels, markers) = (sample_series(), sample_levels(), voltage_markers());
+        line_svg(&line_plot(&series, &levels, &markers), 720, 440).expect("sample renders")
+    }
+
+    /// Pixel vertices of every polyline drawn in `stroke`, in drawing units.
+    fn polylines(svg: &str, stroke: &str) -> Vec<Vec<(i32, i32)>> {
+        svg.lines()
+            .filter(|l| l.contains(&format!("stroke=\"{stroke}\"")) && l.contains("points="))
+            .map(|l| {
+                let pts = l
+                    .split("points=\"")
+                    .nth(1)
+                    .unwrap()
+                    .split('"')
+                    .next()
+                    .unwrap();
+                pts.split_whitespace()
+                    .map(|xy| {
+                        let (x, y) = xy.split_once(',').unwrap();
+                        (x.parse().unwrap(), y.parse().unwrap())
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+
+    #[test]
+    fn line_plot_is_labelled() {
+        let svg = sample_line_svg();
+        assert!(svg.starts_with("<svg"));
+        assert!(svg.trim_end().ends_with("</svg>"));
+        assert!(svg.contains(r#"width="720" height="440" viewBox="0 0 2880 1760""#));
+        let t = texts(&svg);
+        for label in [
+            "Modulation index over the DC link range",
+            "DC voltage (V)",
+            "Modulation index",
+            "Rated output (330.5 V peak)",
+            "Light load (325.3 V peak)",
+            "limit",
+            "linear limit",
+            "min",
+            "nom",
+            "max",
+            "650",
+            "900",
+            "0.75",
+            "1.00",
+        ] {
+            assert!(
+                t.iter().any(|s| s == label),
+                "missing text {label:?} in {t:?}"
+            );
+        }
+        // Consistent decimals, no float noise, no unneeded ".0" on volts.
+        assert!(
+            !t.iter().any(|s| s.contains("000000") || s == "650.0"),
+            "{t:?}"
+        );
+        assert!(svg.contains(r#"font-family="Libertinus Serif""#));
+    }
+
+    #[test]
+    fn line_plot_same_input_gives_identical_bytes() {
+        assert_eq!(sample_line_svg(), sample_line_svg());
+        // ...and different input gives different bytes, so the check above
+        // is not comparing two constants.
+        let series = vec![modulation_series("only", 330.5)];
+        let other = line_svg(&line_plot(&series, &[], &[]), 720, 440).unwrap();
+        assert_ne!(other, sample_line_svg());
+    }
+
+    #[test]
+    fn line_plot_layout_covers_data_and_references() {
+        let (series, levels, markers) = (sample_series(), sample_levels(), voltage_markers());
+        let plot = line_plot(&series, &levels, &markers);
+        let view = validate_line(&plot).unwrap();
+        // Data 650..900 V and m = 0.72..1.02, with a margin on every side.
+        assert!(view.x_lo < 650.0 && view.x_lo > 630.0, "{view:?}");
+        assert!(view.x_hi > 900.0 && view.x_hi < 920.0, "{view:?}");
+        assert!(view.y_lo < 2.0 * 325.3 / 900.0 && view.y_hi > 2.0 * 330.5 / 650.0);
+        let l = LineLayout::new(&plot, &view, 720, 440).unwrap();
+        assert_eq!(l.x_ticks, vec![650.0, 700.0, 750.0, 800.0, 850.0, 900.0]);
+        let y: Vec<String> = l
+            .panel
+            .axis
+            .ticks
+            .iter()
+            .map(|&v| l.y_format.label(v))
+            .collect();
+        assert_eq!(y, ["0.75", "0.80", "0.85", "0.90", "0.95", "1.00"]);
+
+        // Series vertices stay inside the panel.
+        let svg = line_svg(&plot, 720, 440).unwrap();
+        let lines = polylines(&svg, "#005AAA");
+        assert!(!lines.is_empty());
+        for (x, y) in lines.iter().flatten() {
+            let in_legend = f64::from(*y) < l.panel.top;
+            assert!(
+                in_legend
+                    || (f64::from(*x) > l.panel.left
+                        && f64::from(*x) < l.panel.right
+                        && f64::from(*y) < l.panel.bottom),
+                "vertex {x},{y} outside the panel"
+            );
+        }
+        // Level labels start right of the panel; isolated ones sit level
+        // with their lines, top to bottom in value order.
+        let order: Vec<usize> = l.level_labels.iter().map(|ll| ll.level).collect();
+        assert_eq!(order, vec![1, 0]);
+        for ll in &l.level_labels {
+            assert!((ll.cy - l.panel.y(levels[ll.level].y)).abs() < 1e-9);
+        }
+        // Markers in x order, centred on their lines.
+        for ml in &l.marker_labels {
+            assert!((ml.cx - l.x(markers[ml.marker].at)).abs() < 1e-9);
+        }
+    }
+
+    #[test]
+    fn close_levels_are_spread_apart() {
+        let series = sample_series();
+        let levels: Vec<Level> = [("a", 0.95), ("b", 0.951), ("c", 0.9505)]
+            .iter()
+            .map(|&(l, y)| Level { label: l.into(), y })
+            .collect();
+        let plot = line_plot(&series, &levels, &[]);
+        let l = LineLayout::new(&plot, &validate_line(&plot).unwrap(), 720, 440).unwrap();
+        let order: Vec<usize> = l.level_labels.iter().map(|ll| ll.level).collect();
+        assert_eq!(order, vec![1, 2, 0]);
+        for pair in l.level_labels.windows(2) {
+            assert!(pair[1].cy - pair[0].cy >= LEVEL_ROW * l.s.marker - 1e-9);
+        }
+    }
+
+    #[test]
+    fn constant_series_still_renders() {
+        let flat = vec![Series {
+            label: "flat".into(),
+            points: vec![(0.0, 0.95), (10.0, 0.95), (20.0, 0.95)],
+        }];
+        let plot = line_plot(&flat, &[], &[]);
+        let view = validate_line(&plot).unwrap();
+        assert!(view.y_lo < 0.95 && view.y_hi > 0.95, "{view:?}");
+        let svg = line_svg(&plot, 720, 440).unwrap();
+        assert!(texts(&svg).iter().any(|t| t == "flat"));
+        // The line is drawn, horizontally, off the frame.
+        let l = LineLayout::new(&plot, &view, 720, 440).unwrap();
+        let body: Vec<_> = polylines(&svg, "#005AAA")
+            .into_iter()
+            .filter(|pts| f64::from(pts[0].1) > l.panel.top)
+            .collect();
+        assert_eq!(body.len(), 1);
+        assert!(body[0].iter().all(|p| p.1 == body[0][0].1));
+        assert!(f64::from(body[0][0].1) < l.panel.bottom - 10.0);
+
+        // All zeros: a window around zero, not a division by zero.
+        let zeros = vec![Series {
+            label: "zero".into(),
+            points: vec![(0.0, 0.0), (1.0, 0.0)],
+        }];
+        let view = validate_line(&line_plot(&zeros, &[], &[])).unwrap();
+        assert!(view.y_lo < 0.0 && view.y_hi > 0.0);
+        assert!(line_svg(&line_plot(&zeros, &[], &[]), 720, 440).is_ok());
+    }
+
+    #[test]
+    fn single_point_series_is_a_dot() {
+        let series = vec![
+            modulation_series("sweep", 330.5),
+            Series {
+                label: "design point".into(),
+                points: vec![(760.0, 0.87)],
+            },
+        ];
+        let svg = line_svg(&line_plot(&series, &[], &[]), 720, 440).unwrap();
+        // One in the panel, one as its legend sample.
+        assert_eq!(svg.matches("<circle").count(), 2);
+        assert!(svg.contains(r##"fill="#CD5500""##));
+    }
+
+    #[test]
+    fn line_plot_bad_input_is_an_error_not_a_panic() {
+        let render = |series: &[Series], levels: &[Level], markers: &[Marker]| {
+            line_svg(&line_plot(series, levels, markers), 720, 440)
+        };
+        assert_eq!(render(&[], &[], &[]), Err(PlotError::NoCurves));
+        let empty = Series {
+            label: "empty".into(),
+            points: vec![],
+        };
+        assert_eq!(
+            render(&[empty], &[], &[]),
+            Err(PlotError::EmptyCurve {
+                label: "empty".into()
+            })
+        );
+        let mut nan = modulation_series("nan", 330.5);
+        nan.points[4].1 = f64::NAN;
+        assert_eq!(
+            render(&[nan], &[], &[]),
+            Err(PlotError::NonFinite {
+                label: "nan".into(),
+                index: 4
+            })
+        );
+        let mut inf = modulation_series("inf", 330.5);
+        inf.points[9].0 = f64::NEG_INFINITY;
+        assert!(matches!(
+            render(&[inf], &[], &[]),
+            Err(PlotError::NonFinite { index: 9, .. })
+        ));
+        let ok = vec![modulation_series("ok", 330.5)];
+        let bad_level = Level {
+            label: "limit".into(),
+            y: f64::NAN,
+        };
+        assert_eq!(
+            render(&ok, &[bad_level], &[]),
+            Err(PlotError::BadLevel {
+                label: "limit".into()
+            })
+        );
+        let bad_marker = Marker {
+            label: "max".into(),
+            at: f64::INFINITY,
+        };
+        assert_eq!(
+            render(&ok, &[], &[bad_marker]),
+            Err(PlotError::BadMarker {
+                label: "max".into()
+            })
+        );
+        // A vertical line has no x range...
+        let vertical = vec![Series {
+            label: "v".into(),
+            points: vec![(700.0, 0.8), (700.0, 0.9)],
+        }];
+        assert_eq!(
+            render(&vertical, &[], &[]),
+            Err(PlotError::ZeroWidthRange { x: 700.0 })
+        );
+        // ...unless a marker gives it one.
+        let marker = Marker {
+            label: "m".into(),
+            at: 750.0,
+        };
+        assert!(render(&vertical, &[], &[marker]).is_ok());
+        // Spans that overflow, or that tick arithmetic cannot resolve.
+        let huge = vec![Series {
+            label: "huge".into(),
+            points: vec![(0.0, -1e308), (1.0, 1e308)],
+        }];
+        assert_eq!(
+            render(&huge, &[], &[]),
+            Err(PlotError::UnusableRange { axis: 'y' })
+        );
+        let tiny = vec![Series {
+            label: "tiny".into(),
+            points: vec![(0.0, 0.0), (1e-300, 1.0)],
+        }];
+        assert_eq!(
+            render(&tiny, &[], &[]),
+            Err(PlotError::UnusableRange { axis: 'x' })
+        );
+        for (w, h) in [(60, 40), (720, 90), (MAX_SIDE + 1, 440)] {
+            assert_eq!(
+                line_svg(&line_plot(&ok, &[], &[]), w, h),
+                Err(PlotError::BadSize {
+                    width: w,
+                    height: h
+                })
+            );
+        }
+        assert!(PlotError::ZeroWidthRange { x: 700.0 }
+            .to_string()
+            .contains("x = 700"));
+    }
+
+    #[test]
+    fn linear_ticks_are_nice() {
+        let step = |raw: f64| Step::at_least(raw).map(|s| (s.mantissa, s.exp));
+        assert_eq!(step(26.5), Some((5, 1)));
+        assert_eq!(step(0.04), Some((5, -2)));
+        assert_eq!(step(0.05000000000000001), Some((5, -2)));
+        assert_eq!(step(1.0), Some((1, 0)));
+        assert_eq!(step(1.01), Some((2, 0)));
+        assert_eq!(step(2.2e6), Some((5, 6)));
+        assert_eq!(step(0.0), None);
+        assert_eq!(step(f64::NAN), None);
+        assert_eq!(step(1e-300), None);
+
+        // Exact decimals: 0.1 steps from -0.3, through zero.
+        let s = Step {
+            mantissa: 1,
+            exp: -1,
+        };
+        assert_eq!(s.ticks(-0.35, 0.25), vec![-0.3, -0.2, -0.1, 0.0, 0.1, 0.2]);
+        let f = NumberFormat::new(s, &s.ticks(-0.35, 0.25));
+        let labels: Vec<String> = s.ticks(-0.35, 0.25).iter().map(|&v| f.label(v)).collect();
+        assert_eq!(
+            labels,
+            [
+                "\u{2212}0.3",
+                "\u{2212}0.2",
+                "\u{2212}0.1",
+                "0.0",
+                "0.1",
+                "0.2"
+            ]
+        );
+        // Whole steps: no decimals at all.
+        let volts = Step {
+            mantissa: 5,
+            exp: 1,
+        };
+        let fv = NumberFormat::new(volts, &volts.ticks(640.0, 910.0));
+        assert_eq!(fv.label(650.0), "650");
+        assert_eq!(fv.label(-50.0), "\u{2212}50");
+        // Rounding never leaves a negative zero.
+        let f2 = NumberFormat {
+            decimals: 2,
+            exp: None,
+        };
+        assert_eq!(f2.label(-0.001), "0.00");
+        // Large values factor out one power of ten for the axis.
+        let mega = Step {
+            mantissa: 5,
+            exp: 5,
+        };
+        let ticks = mega.ticks(0.9e6, 2.6e6);
+        assert_eq!(ticks, vec![1.0e6, 1.5e6, 2.0e6, 2.5e6]);
+        let fm = NumberFormat::new(mega, &ticks);
+        assert_eq!(fm.label(1.5e6), "1.5×10⁶");
+        assert_eq!(fm.label(0.0), "0");
+        let micro = Step {
+            mantissa: 2,
+            exp: -6,
+        };
+        let fu = NumberFormat::new(micro, &micro.ticks(0.0, 1e-5));
+        assert_eq!(fu.label(4e-6), "4×10⁻⁶");
+        assert_eq!(fu.label(1e-5), "10×10⁻⁶");
+        let fine = Step {
+            mantissa: 1,
+            exp: -5,
+        };
+        let ff = NumberFormat::new(fine, &fine.ticks(1.000005, 1.00004));
+        assert_eq!(ff.label(1.00002), "1.00002");
+    }
+
+    /// Writes the sample line plot for a visual check:
+    /// `cargo test --lib report::plot -- --ignored`.
+    #[test]
+    #[ignore]
+    fn write_sample_line_svg() {
+        let path = std::env::temp_dir().join("line_sample.svg");
+        std::fs::write(&path, sample_line_svg()).unwrap();
     }
 
     /// Writes the sample figure for a visual check:
