@@ -6,6 +6,7 @@
 pub mod filter;
 pub mod modulation;
 pub mod operating_point;
+pub mod spectrum;
 
 use crate::record::{Design, Given, Limit};
 use crate::sheet::{Sheet, Source};
