@@ -33,6 +33,23 @@ fn design_path(name: &str) -> String {
         .to_string()
 }
 
+/// A templates folder in `scratch` with this `package.md`, and the shipped `style.typ`
+/// unless another style text is given.
+fn template_dir(scratch: &Scratch, package_md: &str, style: Option<&str>) -> std::path::PathBuf {
+    let dir = scratch.path().join("tpl");
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join("package.md"), package_md).unwrap();
+    let style = match style {
+        Some(text) => text.to_string(),
+        None => std::fs::read_to_string(
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/style.typ"),
+        )
+        .unwrap(),
+    };
+    std::fs::write(dir.join("style.typ"), style).unwrap();
+    dir
+}
+
 fn assert_contract(doc: &Value, at: &str) {
     assert!(doc["design"].is_object(), "{at}: design");
     let quantities = doc["quantities"].as_array().expect("quantities");
@@ -158,18 +175,11 @@ fn the_package_has_every_section() {
 fn a_template_without_cautions_still_gets_them() {
     // bridgebook rule: no package goes out without its cautions and assumptions.
     let scratch = Scratch::new("tpl");
-    let tdir = scratch.path().join("tpl");
-    std::fs::create_dir_all(&tdir).unwrap();
-    std::fs::write(
-        tdir.join("package.md"),
+    let tdir = template_dir(
+        &scratch,
         "@place title\n\n# Only this\n\n@place calculation filter\n",
-    )
-    .unwrap();
-    std::fs::copy(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/style.typ"),
-        tdir.join("style.typ"),
-    )
-    .unwrap();
+        None,
+    );
     let templates = bridgebook::report::Templates::from_dir(&tdir).unwrap();
     let name = "alder-hut.yaml";
     let rec = bridgebook::record::load_str(name, &common::demo(name)).unwrap();
@@ -306,18 +316,11 @@ fn revisions_a_and_b_differ_where_the_record_changed() {
 fn a_bad_template_is_reported_at_its_line_and_nothing_is_written() {
     // bridgebook template rules: unknown sections and result ids are errors.
     let scratch = Scratch::new("badtpl");
-    let tdir = scratch.path().join("tpl");
-    std::fs::create_dir_all(&tdir).unwrap();
-    std::fs::write(
-        tdir.join("package.md"),
+    let tdir = template_dir(
+        &scratch,
         "@place title\n\nThe resonance is @{filter.f00}.\n\n@place chekcs\n",
-    )
-    .unwrap();
-    std::fs::copy(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/style.typ"),
-        tdir.join("style.typ"),
-    )
-    .unwrap();
+        None,
+    );
     let out = scratch.path().join("out");
     let o = run(&[
         "build",
@@ -340,14 +343,10 @@ fn a_bad_template_is_reported_at_its_line_and_nothing_is_written() {
 #[test]
 fn a_broken_style_file_is_an_error_not_a_panic() {
     let scratch = Scratch::new("badstyle");
-    let tdir = scratch.path().join("tpl");
-    std::fs::create_dir_all(&tdir).unwrap();
-    std::fs::copy(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/package.md"),
-        tdir.join("package.md"),
-    )
-    .unwrap();
-    std::fs::write(tdir.join("style.typ"), "#let package(body) = { body\n").unwrap();
+    let shipped =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/package.md"))
+            .unwrap();
+    let tdir = template_dir(&scratch, &shipped, Some("#let package(body) = { body\n"));
     let out = scratch.path().join("out");
     let o = run(&[
         "build",
