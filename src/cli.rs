@@ -180,16 +180,7 @@ fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, 
                 return Ok(EXIT_PASS);
             }
             let Some(q) = sheet.get(id) else {
-                let ids: Vec<&str> = sheet
-                    .quantities
-                    .iter()
-                    .map(|q| q.id.as_str())
-                    .chain(sheet.checks.iter().map(|c| c.id.as_str()))
-                    .collect();
-                let hint = match crate::diag::did_you_mean(id, &ids) {
-                    Some(close) => format!("did you mean `{close}`?"),
-                    None => "`bridgebook check DESIGN --json` lists every id".to_string(),
-                };
+                let hint = sheet.unknown_id_hint(id);
                 return Err(format!(
                     "error: no result `{id}` in this design\n  = hint: {hint}"
                 ));

@@ -330,6 +330,20 @@ impl Sheet {
         });
     }
 
+    /// The hint for an id that is neither a quantity nor a check: the closest id, if any.
+    pub fn unknown_id_hint(&self, id: &str) -> String {
+        let ids: Vec<&str> = self
+            .quantities
+            .iter()
+            .map(|q| q.id.as_str())
+            .chain(self.checks.iter().map(|c| c.id.as_str()))
+            .collect();
+        match crate::diag::did_you_mean(id, &ids) {
+            Some(close) => format!("did you mean `{close}`?"),
+            None => "`bridgebook check DESIGN --json` lists every id".to_string(),
+        }
+    }
+
     pub fn all_pass(&self) -> bool {
         self.checks.iter().all(|c| c.pass)
     }

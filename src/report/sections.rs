@@ -178,16 +178,7 @@ impl Resolver for Context<'_> {
             )));
         }
         let Some(q) = self.sheet.get(id) else {
-            let ids: Vec<&str> = self
-                .sheet
-                .quantities
-                .iter()
-                .map(|q| q.id.as_str())
-                .collect();
-            let hint = match crate::diag::did_you_mean(id, &ids) {
-                Some(close) => format!("did you mean `{close}`?"),
-                None => "`bridgebook check DESIGN --json` lists every id".to_string(),
-            };
+            let hint = self.sheet.unknown_id_hint(id);
             return Err((format!("unknown result id `{id}`"), hint));
         };
         match form {
@@ -400,9 +391,9 @@ impl Context<'_> {
     fn cautions(&self) -> Result<String, (String, String)> {
         let s = self.sheet;
         let v_dc = format_value(s.value("dc.v_max"), Unit::Volt);
-        let v_pk = format_value(s.value("output.v_peak"), Unit::Volt);
-        let c = s.value("filter.capacitance");
         let v = s.value("output.v_peak");
+        let v_pk = format_value(v, Unit::Volt);
+        let c = s.value("filter.capacitance");
         let energy = format_value(0.5 * c * v * v, Unit::Joule);
         let items = [
             format!("Hazardous voltage. The DC input reaches {v_dc} and the output peaks at {v_pk}; both can kill. Work on this equipment only de-energised, isolated and verified dead, by qualified persons."),
