@@ -23,4 +23,5 @@ pub mod package;
 pub mod record;
 pub mod report;
 pub mod sheet;
+pub mod standards;
 pub mod units;

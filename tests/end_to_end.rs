@@ -20,9 +20,17 @@ const CONTRACT: &[&str] = &[
     "modulation.m_a.max",
     "filter.inductance",
     "filter.capacitance",
-    "filter.f0",
-    "filter.z0",
-    "filter.zeta",
+];
+
+/// The contract's LC results, for stand-alone designs.
+const STANDALONE_CONTRACT: &[&str] = &["filter.f0", "filter.z0", "filter.zeta"];
+
+/// What a grid-connected LCL design carries instead.
+const GRID_CONTRACT: &[&str] = &[
+    "filter.grid_side_inductance",
+    "filter.f_res",
+    "grid.inductance",
+    "modulation.v_sw_pk",
 ];
 
 fn design_path(name: &str) -> String {
@@ -53,7 +61,13 @@ fn template_dir(scratch: &Scratch, package_md: &str, style: Option<&str>) -> std
 fn assert_contract(doc: &Value, at: &str) {
     assert!(doc["design"].is_object(), "{at}: design");
     let quantities = doc["quantities"].as_array().expect("quantities");
-    for id in CONTRACT {
+    let grid = doc["design"]["output"]["connection"] == "grid";
+    let extra = if grid {
+        GRID_CONTRACT
+    } else {
+        STANDALONE_CONTRACT
+    };
+    for id in CONTRACT.iter().chain(extra) {
         let q = quantities
             .iter()
             .find(|q| q["id"] == *id)
@@ -94,7 +108,11 @@ fn every_demo_builds_a_package() {
         let scratch = Scratch::new("demo");
         let out = scratch.path().join("out");
         let o = run(&["build", &design_path(&name), "--out", out.to_str().unwrap()]);
-        assert_eq!(o.status.code(), Some(0), "{name}: {}", stderr(&o));
+        // Revision A of the pumping station is the demo's failing revision: at 16 kHz its
+        // inductor ripple is over the limit, which revision B's 20 kHz fixes. Exit code 1
+        // still writes the package, marked as failing.
+        let want = if name == "ridge-pump-a.yaml" { 1 } else { 0 };
+        assert_eq!(o.status.code(), Some(want), "{name}: {}", stderr(&o));
         let text = stdout(&o);
         assert!(text.contains("package.pdf"), "{name}: {text}");
         let rec = bridgebook::record::load_str(&name, &common::demo(&name)).unwrap();
@@ -112,9 +130,58 @@ fn every_demo_builds_a_package() {
             svg.contains("regulation limit"),
             "{name}: limit line missing"
         );
+        for plot in [
+            "switch-spectrum",
+            "output-spectrum",
+            "switch-waveform",
+            "output-waveform",
+            "ripple-envelope",
+        ] {
+            let svg = std::fs::read_to_string(dir.join(format!("{plot}.svg")))
+                .unwrap_or_else(|_| panic!("{name}: {plot}.svg"));
+            assert!(svg.starts_with("<svg"), "{name}: {plot}");
+        }
         let results: Value =
             serde_json::from_slice(&std::fs::read(dir.join("results.json")).unwrap()).unwrap();
         assert_contract(&results, &name);
+        let failing: Vec<&str> = results["checks"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|c| c["pass"] == false)
+            .map(|c| c["id"].as_str().unwrap())
+            .collect();
+        if want == 1 {
+            assert_eq!(failing, ["check.filter.ripple"], "{name}");
+        }
+        // The spectrum and compliance results are in the contract of every demo.
+        let ids: Vec<&str> = results["quantities"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|q| q["id"].as_str().unwrap())
+            .collect();
+        let compliance = if rec.design.output.grid() {
+            "quality.i_trd_worst"
+        } else {
+            "quality.v_thd_worst"
+        };
+        for id in [
+            "spectrum.switch.h1.nominal",
+            "spectrum.switch.thd.nominal",
+            "spectrum.switch.wthd.max",
+            "spectrum.switch.group1.min",
+            "ripple.i_pp_max",
+            compliance,
+        ] {
+            assert!(ids.contains(&id), "{name}: no {id}");
+        }
+        assert!(
+            ids.iter()
+                .any(|id| id.starts_with("spectrum.switch.h")
+                    && !id.starts_with("spectrum.switch.h1.")),
+            "{name}: no switching harmonics"
+        );
         assert_eq!(results["stamp"]["project"], rec.design.project.id.as_str());
         // No staging folders are left behind.
         let leftovers: Vec<_> = std::fs::read_dir(dir.parent().unwrap())

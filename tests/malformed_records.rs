@@ -628,7 +628,7 @@ fn filter_with_values_and_design() {
             col: Some("{"),
             key: "filter.design",
         },
-        "keep either `inductance` and `capacitance`, or `design`",
+        "keep either the values (`inductance`, `capacitance`) or `design`",
     );
 }
 
@@ -918,4 +918,79 @@ fn hint_examples_are_valid_values() {
             fixed.stderr
         );
     }
+}
+
+// bridgebook record format 1 (issue 3): a stand-alone output is evaluated with an LC
+// filter, a grid-connected one with L or LCL; the mismatch points at `filter.type`.
+#[test]
+fn grid_connection_with_an_lc_filter() {
+    let text = edit(&ridge(), "connection: standalone", "connection: grid");
+    let r = build(&text);
+    r.assert_rejected(1);
+    r.assert_error(
+        "a grid-connected output is evaluated with an `l` or `lcl` filter; a capacitor straight on the grid has no inductor to limit its current",
+        At {
+            line: "type: lc",
+            col: Some("lc"),
+            key: "filter.type",
+        },
+        "use `type: lcl` (add `grid_side_inductance`), or `type: l`",
+    );
+}
+
+// bridgebook record format 1 (issue 3): a three-phase bridge takes sine-triangle or
+// third-harmonic PWM only.
+#[test]
+fn unipolar_pwm_on_a_three_phase_bridge() {
+    let text = edit(
+        &edit(&ridge(), "topology: half-bridge", "topology: three-phase"),
+        "pwm: bipolar",
+        "pwm: unipolar",
+    );
+    let r = build(&text);
+    r.assert_rejected(1);
+    r.assert_error(
+        "`unipolar` PWM is not a modulation of the three-phase bridge",
+        At {
+            line: "pwm: unipolar",
+            col: Some("unipolar"),
+            key: "bridge.pwm",
+        },
+        "use `pwm: sine-triangle` or `pwm: third-harmonic`",
+    );
+}
+
+// bridgebook record format 1 (issue 3): an LCL filter with values needs all three.
+#[test]
+fn lcl_filter_without_its_grid_side_inductor() {
+    let text = edit(
+        &edit(&ridge(), "connection: standalone", "connection: grid"),
+        "  type: lc\n  inductance: 1.8 mH\n  capacitance: 10 uF\n",
+        "  type: lcl\n  inverter_side_inductance: 1.8 mH\n  capacitance: 10 uF\n",
+    );
+    let r = build(&text);
+    r.assert_rejected(1);
+    assert!(r.stderr.contains("grid_side_inductance"), "{}", r.stderr);
+    assert!(r.stderr.contains("filter"), "{}", r.stderr);
+}
+
+// bridgebook record format 1 (issue 3): a grid inductance belongs to a grid connection.
+#[test]
+fn grid_inductance_on_a_standalone_output() {
+    let text = edit(
+        &ridge(),
+        "connection: standalone",
+        "connection: standalone\n  grid_inductance: 50 uH",
+    );
+    let r = build(&text);
+    r.assert_rejected(1);
+    r.assert_error(
+        "a grid inductance is given for a stand-alone output",
+        At {
+            line: "grid_inductance: 50 uH",
+            col: Some("50 uH"),
+            key: "output.grid_inductance",
+        },
+        "remove `grid_inductance`, or set `connection: grid`",
+    );
 }

@@ -10,7 +10,7 @@
 //! With X = ω1 L_ld the reactance at f1, the denominator's real part is
 //! 1 - ω²LC + ω1 L / X at every ω, and its imaginary part is ωL / R.
 
-use super::operating_point::{load_cases, load_ids, LoadCase};
+use super::operating_point::{load_cases, load_ids, phase_voltage, LoadCase};
 use super::{given, limit_quantity, limit_source};
 use crate::record::{Design, FilterSizing, Pwm};
 use crate::sheet::{Relation, Sheet, Source};
@@ -61,24 +61,25 @@ pub fn filter_of(s: &Sheet) -> LcFilter {
 /// for unipolar (three-level) PWM, whose odd carrier groups cancel between the legs.
 pub fn carrier_frequency(d: &Design, f_sw: f64) -> f64 {
     match d.bridge.pwm {
-        Pwm::Bipolar => f_sw,
         Pwm::Unipolar => 2.0 * f_sw,
+        _ => f_sw,
     }
 }
 
 pub fn evaluate(d: &Design, s: &mut Sheet) {
     let (r_rated, _) = load_ids("rated");
     match &d.filter.sizing {
-        FilterSizing::Given {
-            inductance,
-            capacitance,
-        } => {
+        FilterSizing::Given(values) => {
+            let Some(capacitance) = &values.capacitance else {
+                // The record reader lets an LC filter through only with both values.
+                return;
+            };
             given(
                 s,
                 "filter.inductance",
                 "Filter inductance",
                 "L",
-                inductance,
+                &values.inductance,
                 Unit::Henry,
             );
             given(
@@ -90,6 +91,8 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
                 Unit::Farad,
             );
         }
+        // The record reader keeps LCL rules away from stand-alone LC filters.
+        FilterSizing::LclRule(_) => return,
         FilterSizing::Rule {
             resonance_ratio,
             damping,
@@ -186,7 +189,9 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
     let f_sw = s.value("bridge.f_sw");
     let f_c = carrier_frequency(d, f_sw);
     let (formula, note) = match d.bridge.pwm {
-        Pwm::Bipolar => ("f_\"sw\"", "two-level PWM: first carrier group at f_sw"),
+        Pwm::Bipolar | Pwm::SineTriangle | Pwm::ThirdHarmonic => {
+            ("f_\"sw\"", "two-level PWM: first carrier group at f_sw")
+        }
         Pwm::Unipolar => (
             "2 f_\"sw\"",
             "unipolar PWM: the odd carrier groups cancel, the first group is at 2 f_sw",
@@ -226,7 +231,8 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
     .inputs(&["filter.gain_carrier.rated"])
     .value(-20.0 * g_c.log10());
 
-    let v = s.value("output.v_rms");
+    let (v_id, v_sym) = phase_voltage(d);
+    let v = s.value(v_id);
     let w1 = s.value("output.omega1");
     s.derive(
         "filter.i_c_f1",
@@ -234,17 +240,17 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         "I_(C,1)",
         Unit::Ampere,
     )
-    .formula("V_o omega_1 C")
-    .inputs(&["output.v_rms", "output.omega1", "filter.capacitance"])
+    .formula(&format!("{v_sym} omega_1 C"))
+    .inputs(&[v_id, "output.omega1", "filter.capacitance"])
     .value(v * w1 * lc.c);
     let r = s.value(&r_rated);
     let (_, x_rated) = load_ids("rated");
     let b_load = s.get(&x_rated).map_or(0.0, |q| 1.0 / q.value);
-    let (formula, inputs): (&str, Vec<&str>) = if s.get(&x_rated).is_some() {
+    let (formula, inputs): (String, Vec<&str>) = if s.get(&x_rated).is_some() {
         (
-            "V_o sqrt((1 / R_\"ld\")^2 + (omega_1 C - 1 / X_\"ld\")^2)",
+            format!("{v_sym} sqrt((1 / R_\"ld\")^2 + (omega_1 C - 1 / X_\"ld\")^2)"),
             vec![
-                "output.v_rms",
+                v_id,
                 &r_rated,
                 "output.omega1",
                 "filter.capacitance",
@@ -253,13 +259,8 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         )
     } else {
         (
-            "V_o sqrt((1 / R_\"ld\")^2 + (omega_1 C)^2)",
-            vec![
-                "output.v_rms",
-                &r_rated,
-                "output.omega1",
-                "filter.capacitance",
-            ],
+            format!("{v_sym} sqrt((1 / R_\"ld\")^2 + (omega_1 C)^2)"),
+            vec![v_id, &r_rated, "output.omega1", "filter.capacitance"],
         )
     };
     s.derive(
@@ -268,7 +269,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         "I_(L,1)",
         Unit::Ampere,
     )
-    .formula(formula)
+    .formula(&formula)
     .inputs(&inputs)
     .value(v * ((1.0 / r).powi(2) + (w1 * lc.c - b_load).powi(2)).sqrt());
 

@@ -4,9 +4,14 @@
 //! design.
 
 pub mod filter;
+pub mod filter_stress;
+pub mod grid_filter;
 pub mod modulation;
 pub mod operating_point;
+pub mod output_quality;
+pub mod ripple;
 pub mod spectrum;
+pub mod switching;
 
 use crate::record::{Design, Given, Limit};
 use crate::sheet::{Sheet, Source};
@@ -16,8 +21,15 @@ use crate::units::Unit;
 pub fn evaluate(design: &Design) -> Sheet {
     let mut sheet = Sheet::new();
     operating_point::evaluate(design, &mut sheet);
-    filter::evaluate(design, &mut sheet);
+    if design.output.grid() {
+        grid_filter::evaluate(design, &mut sheet);
+    } else {
+        filter::evaluate(design, &mut sheet);
+    }
     modulation::evaluate(design, &mut sheet);
+    let spectra = switching::evaluate(design, &mut sheet);
+    output_quality::evaluate(design, &mut sheet, &spectra);
+    filter_stress::evaluate(design, &mut sheet, &spectra);
     sheet
 }
 
@@ -38,6 +50,11 @@ fn input_source(g: &Given) -> Source {
         key: g.key.clone(),
         line: g.line,
     }
+}
+
+/// The source of a limit written in the record.
+pub(crate) fn limit_source_given(g: &Given) -> Source {
+    input_source(g)
 }
 
 /// Records a design limit: from the record where written, else its common-practice default.

@@ -11,7 +11,8 @@
 
 use super::limit_quantity;
 use super::limit_source;
-use crate::record::{Design, Topology};
+use super::switching;
+use crate::record::{Design, Limit, Topology};
 use crate::sheet::{Relation, Sheet, Source};
 use crate::units::{format_number, Unit};
 use std::f64::consts::PI;
@@ -23,9 +24,10 @@ pub const DC_POINTS: [(&str, &str, &str); 3] = [
     ("max", "DC maximum", "dc.v_max"),
 ];
 
-/// Operating region of sine-triangle PWM for a required modulation index.
-pub fn region(m_a: f64) -> &'static str {
-    if m_a <= 1.0 {
+/// Operating region of sine-triangle PWM for a required modulation index, with the
+/// linear limit of the modulation (1, or 2/sqrt(3) with third-harmonic injection).
+pub fn region(m_a: f64, linear: f64) -> &'static str {
+    if m_a <= linear {
         "linear"
     } else if m_a < 4.0 / PI {
         "overmodulation"
@@ -39,14 +41,17 @@ pub fn region(m_a: f64) -> &'static str {
 fn region_source() -> Source {
     Source::reference(
         "N. Mohan, T. Undeland, W. Robbins, Power Electronics, 3rd ed., section 8-3-1 (from memory)",
-        "linear for m_a <= 1; overmodulation up to the square-wave fundamental 4/pi of the half DC voltage",
+        "linear for m_a <= 1 (2/sqrt(3) with a sixth of third harmonic injected; J. A. Houldsworth, D. A. Grant, IEEE Trans. Ind. Appl., 1984, from memory); overmodulation up to the square-wave fundamental 4/pi of the half DC voltage",
     )
 }
 
 pub fn evaluate(d: &Design, s: &mut Sheet) {
-    let half = d.bridge.topology == Topology::HalfBridge;
-    // Per-unit output of the bridge: V_dc / 2 for a half-bridge, V_dc for a full-bridge.
-    let (base_factor, base_text) = if half { (0.5, " / 2") } else { (1.0, "") };
+    // Per-unit output of one phase: V_dc / 2 for a half-bridge leg or a three-phase leg
+    // against the load neutral, V_dc for a full-bridge.
+    let base_factor = switching::base_factor(d);
+    let half = base_factor == 0.5;
+    let base_text = if half { " / 2" } else { "" };
+    let linear = switching::linear_limit(d);
 
     let f_sw = s.value("bridge.f_sw");
     let f1 = s.value("output.f1");
@@ -60,7 +65,21 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         .formula("f_\"sw\" / f_1")
         .inputs(&["bridge.f_sw", "output.f1"])
         .value(f_sw / f1);
-    if m_f < 21.0 && (m_f.fract() != 0.0 || m_f as i64 % 2 == 0) {
+    if d.bridge.topology == Topology::ThreePhase
+        && m_f < 21.0
+        && (m_f.fract() != 0.0 || m_f as i64 % 2 == 0 || m_f as i64 % 3 != 0)
+    {
+        s.warn(
+            "modulation.m_f",
+            &format!(
+                "m_f = {} is below 21 and not an odd multiple of 3: the line-to-line voltage then carries subharmonics or even and triplen-cancelling lines are lost; keep m_f an odd multiple of 3 (common practice)",
+                format_number(m_f, 4)
+            ),
+        );
+    } else if d.bridge.topology != Topology::ThreePhase
+        && m_f < 21.0
+        && (m_f.fract() != 0.0 || m_f as i64 % 2 == 0)
+    {
         s.warn(
             "modulation.m_f",
             &format!(
@@ -70,10 +89,22 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         );
     }
 
-    let h = s.value("filter.gain_f1.rated");
-    let v_pk = s.value("output.v_peak");
-    let v_sw = s
-        .derive(
+    let v_sw = if d.output.grid() {
+        let re = s.value("filter.v_sw_re");
+        let im = s.value("filter.v_sw_im");
+        s.derive(
+            "modulation.v_sw_pk",
+            "Switch-node fundamental needed at rated current (peak)",
+            "V_(\"sw\",1)",
+            Unit::Volt,
+        )
+        .formula("sqrt(V_(\"sw\",\"re\")^2 + V_(\"sw\",\"im\")^2)")
+        .inputs(&["filter.v_sw_re", "filter.v_sw_im"])
+        .value(re.hypot(im))
+    } else {
+        let h = s.value("filter.gain_f1.rated");
+        let v_pk = s.value("output.v_peak");
+        s.derive(
             "modulation.v_sw_pk",
             "Switch-node fundamental needed at rated load (peak)",
             "V_(\"sw\",1)",
@@ -81,14 +112,26 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         )
         .formula("V_(o,\"pk\") / abs(H(j omega_1))_\"rated\"")
         .inputs(&["output.v_peak", "filter.gain_f1.rated"])
-        .value(v_pk / h);
+        .value(v_pk / h)
+    };
+    let v_pk = s.value("output.v_peak");
 
+    // With third-harmonic injection the default headroom is kept below its own
+    // linear limit.
+    let limit = match (&d.limits.max_modulation_index.given, linear > 1.0) {
+        (None, true) => Limit {
+            value: d.limits.max_modulation_index.value * linear,
+            given: None,
+            default_basis: "about 5 % of modulation kept in reserve below the linear limit 2/sqrt(3) of third-harmonic injection, for the voltage and current regulators",
+        },
+        _ => d.limits.max_modulation_index.clone(),
+    };
     let m_max = limit_quantity(
         s,
         "limits.max_modulation_index",
         "Maximum modulation index (regulation headroom)",
         "m_(a,\"max\")",
-        &d.limits.max_modulation_index,
+        &limit,
         Unit::One,
     );
 
@@ -115,7 +158,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
             .inputs(&["modulation.v_sw_pk", dc_id])
             .value(v_sw / (v_dc * base_factor));
         let m_sym = format!("m_(a,\"{}\")", short(key));
-        let class = region(m_a);
+        let class = region(m_a, linear);
         s.derive(
             &format!("modulation.region.{key}"),
             &format!("Operating region, {label}"),
@@ -127,8 +170,19 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         .source(region_source())
         .class(class)
         .value(m_a);
-        // Leg A of either bridge: D = 1/2 + (m_a / 2) sin(ω1 t); clipped at 1 past linear.
-        let duty_formula = format!("min(1, 1 / 2 + {m_sym} / 2)");
+        // Leg A: D = 1/2 + (m_a / 2) sin(ω1 t), clipped at 1 past linear; with a sixth of
+        // third harmonic the reference peaks at sqrt(3)/2 of m_a (at 60 degrees).
+        let (duty_formula, duty) = if linear > 1.0 {
+            (
+                format!("min(1, 1 / 2 + sqrt(3) {m_sym} / 4)"),
+                (0.5 + 3f64.sqrt() * m_a / 4.0).min(1.0),
+            )
+        } else {
+            (
+                format!("min(1, 1 / 2 + {m_sym} / 2)"),
+                0.5 + m_a.min(1.0) / 2.0,
+            )
+        };
         s.derive(
             &format!("modulation.duty_peak.{key}"),
             &format!("Peak leg duty cycle, {label}"),
@@ -137,7 +191,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         )
         .formula(&duty_formula)
         .inputs(&[&format!("modulation.m_a.{key}")])
-        .value(0.5 + m_a.min(1.0) / 2.0);
+        .value(duty);
         if let Some(c) = &d.bridge.carrier_peak {
             if key == "min" {
                 super::given(
@@ -181,11 +235,12 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         "modulation.m_a.min",
         Relation::AtMost,
         m_max,
-        limit_source(&d.limits.max_modulation_index),
+        limit_source(&limit),
     );
 }
 
-fn short(key: &str) -> &str {
+/// The short form of a DC point key used in symbols.
+pub fn short(key: &str) -> &str {
     match key {
         "nominal" => "nom",
         other => other,
@@ -199,10 +254,14 @@ mod tests {
     #[test]
     fn regions_follow_the_published_boundaries() {
         // Linear up to m_a = 1, square wave at 4/pi (Mohan et al., 3rd ed., 8-3-1; from memory).
-        assert_eq!(region(0.85), "linear");
-        assert_eq!(region(1.0), "linear");
-        assert_eq!(region(1.2), "overmodulation");
-        assert_eq!(region(4.0 / PI), "square-wave");
-        assert_eq!(region(1.5), "unreachable");
+        assert_eq!(region(0.85, 1.0), "linear");
+        assert_eq!(region(1.0, 1.0), "linear");
+        assert_eq!(region(1.2, 1.0), "overmodulation");
+        assert_eq!(region(4.0 / PI, 1.0), "square-wave");
+        assert_eq!(region(1.5, 1.0), "unreachable");
+        // Third-harmonic injection: linear up to 2/sqrt(3) (Houldsworth and Grant 1984,
+        // from memory).
+        assert_eq!(region(1.15, 2.0 / 3f64.sqrt()), "linear");
+        assert_eq!(region(1.2, 2.0 / 3f64.sqrt()), "overmodulation");
     }
 }

@@ -6,7 +6,7 @@
 //! (the load sits across the capacitor), so zeta = Z0 / (2 R) uses this R directly.
 
 use super::{given, limit_quantity};
-use crate::record::Design;
+use crate::record::{Design, Topology};
 use crate::sheet::{Sheet, Source};
 use crate::units::Unit;
 
@@ -22,6 +22,16 @@ pub struct LoadCase {
 }
 
 /// Ids of the load resistances and reactances, by case.
+/// The id and symbol of the voltage across one phase of the output: V_o itself, or
+/// the line-to-neutral voltage of a three-phase output.
+pub fn phase_voltage(d: &Design) -> (&'static str, &'static str) {
+    if d.bridge.topology == Topology::ThreePhase {
+        ("output.v_phase", "V_\"ph\"")
+    } else {
+        ("output.v_rms", "V_o")
+    }
+}
+
 pub fn load_ids(case: &str) -> (String, String) {
     (format!("load.r.{case}"), format!("load.x.{case}"))
 }
@@ -101,15 +111,40 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
     .formula("2 pi f_1")
     .inputs(&["output.f1"])
     .value(2.0 * std::f64::consts::PI * f1);
-    s.derive(
-        "output.v_peak",
-        "Output voltage, peak",
-        "V_(o,\"pk\")",
-        Unit::Volt,
-    )
-    .formula("sqrt(2) V_o")
-    .inputs(&["output.v_rms"])
-    .value(2f64.sqrt() * v);
+    let three_phase = d.bridge.topology == Topology::ThreePhase;
+    if three_phase {
+        s.derive(
+            "output.v_phase",
+            "Output phase voltage, line-to-neutral (rms)",
+            "V_\"ph\"",
+            Unit::Volt,
+        )
+        .formula("V_o / sqrt(3)")
+        .inputs(&["output.v_rms"])
+        .source(Source::common_practice(
+            "balanced three-phase output: line-to-line voltage sqrt(3) times line-to-neutral",
+        ))
+        .value(v / 3f64.sqrt());
+        s.derive(
+            "output.v_peak",
+            "Output phase voltage, peak",
+            "V_(o,\"pk\")",
+            Unit::Volt,
+        )
+        .formula("sqrt(2) V_\"ph\"")
+        .inputs(&["output.v_phase"])
+        .value(2f64.sqrt() * v / 3f64.sqrt());
+    } else {
+        s.derive(
+            "output.v_peak",
+            "Output voltage, peak",
+            "V_(o,\"pk\")",
+            Unit::Volt,
+        )
+        .formula("sqrt(2) V_o")
+        .inputs(&["output.v_rms"])
+        .value(2f64.sqrt() * v);
+    }
     let apparent = s
         .derive("output.s", "Rated apparent power", "S", Unit::VoltAmpere)
         .formula("P / lambda")
@@ -120,16 +155,25 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         .formula("sqrt(S^2 - P^2)")
         .inputs(&["output.s", "output.power"])
         .value((apparent * apparent - p * p).max(0.0).sqrt());
+    let (i_formula, i_value) = if three_phase {
+        ("S / (sqrt(3) V_o)", apparent / (3f64.sqrt() * v))
+    } else {
+        ("S / V_o", apparent / v)
+    };
     let i = s
         .derive(
             "output.i_rms",
-            "Rated output current (rms)",
+            if d.output.grid() {
+                "Rated grid current (rms)"
+            } else {
+                "Rated output current (rms)"
+            },
             "I_o",
             Unit::Ampere,
         )
-        .formula("S / V_o")
+        .formula(i_formula)
         .inputs(&["output.s", "output.v_rms"])
-        .value(apparent / v);
+        .value(i_value);
     s.derive(
         "output.i_peak",
         "Rated output current, peak",
@@ -139,6 +183,10 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
     .formula("sqrt(2) I_o")
     .inputs(&["output.i_rms"])
     .value(2f64.sqrt() * i);
+    if d.output.grid() {
+        // A grid-connected bridge sets its current; there is no load to model.
+        return;
+    }
     s.derive(
         "load.z.rated",
         "Rated-load impedance magnitude",

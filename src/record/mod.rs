@@ -204,6 +204,7 @@ fn read_design(root: Section) -> Option<Design> {
     let output = root.section("output").and_then(read_output);
     let bridge = root.section("bridge").and_then(read_bridge);
     let filter = root.section("filter").and_then(read_filter);
+    let spectrum = read_spectrum(root.optional_section("spectrum"));
     let limits = read_limits(root.optional_section("limits"));
     let assumptions = read_assumptions(&root);
     let notes = root.optional_text("notes");
@@ -216,6 +217,7 @@ fn read_design(root: Section) -> Option<Design> {
         output: output?,
         bridge: bridge?,
         filter: filter?,
+        spectrum,
         limits: limits?,
         assumptions,
         notes,
@@ -378,6 +380,7 @@ fn read_output(s: Section) -> Option<Output> {
     let power = s.quantity("power", Unit::Watt);
     let power_factor = s.quantity("power_factor", Unit::One);
     let connection = s.choice("connection", &["standalone", "grid"]);
+    let grid_inductance = s.optional_quantity("grid_inductance", Unit::Henry);
     s.finish();
     let (voltage, frequency, power, power_factor) = (voltage?, frequency?, power?, power_factor?);
     let ok = [
@@ -416,15 +419,26 @@ fn read_output(s: Section) -> Option<Output> {
     ];
     let connection = match connection? {
         "standalone" => Connection::Standalone,
-        _ => {
-            r.error(
-                &s.key_path("connection"),
-                "grid-connected evaluation is not part of this engine version",
-                Some("use `connection: standalone`; grid-connected designs come later".into()),
-            );
-            Connection::Grid
-        }
+        _ => Connection::Grid,
     };
+    if let Some(g) = &grid_inductance {
+        if connection == Connection::Standalone {
+            r.error(
+                &g.key,
+                "a grid inductance is given for a stand-alone output",
+                Some("remove `grid_inductance`, or set `connection: grid`".into()),
+            );
+        } else {
+            in_range(
+                r,
+                g,
+                -1e-30,
+                0.1,
+                Unit::Henry,
+                "the grid inductance behind the connection point is between 0 and a few mH",
+            );
+        }
+    }
     if ok.iter().any(|ok| !ok) {
         return None;
     }
@@ -434,30 +448,59 @@ fn read_output(s: Section) -> Option<Output> {
         power,
         power_factor,
         connection,
+        grid_inductance,
     })
 }
 
 fn read_bridge(s: Section) -> Option<Bridge> {
     let r = s.reader();
-    let topology = s.choice("topology", &["half-bridge", "full-bridge"]);
-    let pwm = s.choice("pwm", &["bipolar", "unipolar"]);
+    let topology = s.choice("topology", &["half-bridge", "full-bridge", "three-phase"]);
+    let pwm = s.choice(
+        "pwm",
+        &["bipolar", "unipolar", "sine-triangle", "third-harmonic"],
+    );
     let f_sw = s.quantity("switching_frequency", Unit::Hertz);
     let carrier_peak = s.optional_quantity("carrier_peak", Unit::Volt);
     s.finish();
     let topology = match topology? {
         "half-bridge" => Topology::HalfBridge,
-        _ => Topology::FullBridge,
+        "full-bridge" => Topology::FullBridge,
+        _ => Topology::ThreePhase,
     };
     let pwm = match pwm? {
         "bipolar" => Pwm::Bipolar,
-        _ => Pwm::Unipolar,
+        "unipolar" => Pwm::Unipolar,
+        "sine-triangle" => Pwm::SineTriangle,
+        _ => Pwm::ThirdHarmonic,
     };
-    if topology == Topology::HalfBridge && pwm == Pwm::Unipolar {
-        r.error(
-            &s.key_path("pwm"),
-            "unipolar PWM needs two legs; a half-bridge has one",
-            Some("use `pwm: bipolar`, or `topology: full-bridge`".into()),
-        );
+    let allowed: &[Pwm] = match topology {
+        Topology::HalfBridge => &[Pwm::Bipolar],
+        Topology::FullBridge => &[Pwm::Bipolar, Pwm::Unipolar],
+        Topology::ThreePhase => &[Pwm::SineTriangle, Pwm::ThirdHarmonic],
+    };
+    if !allowed.contains(&pwm) {
+        let names: Vec<String> = allowed
+            .iter()
+            .map(|p| format!("`pwm: {}`", p.name()))
+            .collect();
+        let why = match (topology, pwm) {
+            (Topology::HalfBridge, Pwm::Unipolar) => {
+                "unipolar PWM needs two legs; a half-bridge has one".to_string()
+            }
+            _ => format!(
+                "`{}` PWM is not a modulation of the {} bridge",
+                pwm.name(),
+                topology.name()
+            ),
+        };
+        let hint = match (topology, pwm) {
+            (Topology::HalfBridge, Pwm::Unipolar) => {
+                "use `pwm: bipolar`, or `topology: full-bridge`".to_string()
+            }
+            _ => format!("use {}", names.join(" or ")),
+        };
+        r.error(&s.key_path("pwm"), why, Some(hint));
+        return None;
     }
     let f_sw = f_sw?;
     let ok = in_range(
@@ -488,94 +531,220 @@ fn read_bridge(s: Section) -> Option<Bridge> {
 
 fn read_filter(s: Section) -> Option<Filter> {
     let r = s.reader();
-    let _ = s.choice("type", &["lc"]);
-    let has_values = s.has("inductance") || s.has("capacitance");
+    let kind = match s.choice("type", &["l", "lc", "lcl"])? {
+        "l" => FilterKind::L,
+        "lc" => FilterKind::Lc,
+        _ => FilterKind::Lcl,
+    };
+    let value_keys: &[&'static str] = match kind {
+        FilterKind::L => &["inductance"],
+        FilterKind::Lc => &["inductance", "capacitance"],
+        FilterKind::Lcl => &[
+            "inverter_side_inductance",
+            "capacitance",
+            "grid_side_inductance",
+            "damping_resistance",
+        ],
+    };
+    let has_values = value_keys.iter().any(|k| s.has(k));
     let design = s.optional_section("design");
-    s.allow(&["inductance", "capacitance"]);
+    s.allow(value_keys);
     let sizing = match (has_values, design) {
         (true, Some(_)) => {
             r.error(
                 &s.key_path("design"),
                 "the filter gives both values and a sizing rule",
-                Some("keep either `inductance` and `capacitance`, or `design`".into()),
+                Some(format!(
+                    "keep either the values ({}) or `design`",
+                    value_keys
+                        .iter()
+                        .map(|k| format!("`{k}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                )),
             );
             None
         }
-        (true, None) => {
-            let l = s.quantity("inductance", Unit::Henry);
-            let c = s.quantity("capacitance", Unit::Farad);
-            match (l, c) {
-                (Some(l), Some(c)) => {
-                    // `&` rather than `&&`: both values are reported when both are absurd.
-                    let ok = in_range(
-                        r,
-                        &l,
-                        0.0,
-                        1.0,
-                        Unit::Henry,
-                        "output filter inductors are between µH and a few hundred mH",
-                    ) & in_range(
-                        r,
-                        &c,
-                        0.0,
-                        0.1,
-                        Unit::Farad,
-                        "output filter capacitors are between nF and a few mF",
-                    );
-                    ok.then_some(FilterSizing::Given {
-                        inductance: l,
-                        capacitance: c,
-                    })
-                }
-                _ => None,
+        (true, None) => read_filter_values(&s, kind).map(FilterSizing::Given),
+        (false, Some(d)) => match kind {
+            FilterKind::Lc => read_lc_rule(r, &d),
+            FilterKind::Lcl => read_lcl_rule(r, &d),
+            FilterKind::L => {
+                r.error(
+                    &d.path,
+                    "an `l` filter has no sizing rule",
+                    Some("write `inductance:`; or use `type: lcl` with a `design` rule".into()),
+                );
+                None
             }
-        }
-        (false, Some(d)) => {
-            let k = d.quantity("resonance_ratio", Unit::One);
-            let z = d.quantity("damping", Unit::One);
-            d.finish();
-            let k_ok = k.as_ref().is_some_and(|k| {
-                in_range(
-                    r,
-                    k,
-                    1.0,
-                    1000.0,
-                    Unit::One,
-                    "the resonance ratio f0/f1 must be above 1; 10 to 40 is usual",
-                )
-            });
-            let z_ok = z.as_ref().is_some_and(|z| {
-                in_range(
-                    r,
-                    z,
-                    0.0,
-                    5.0,
-                    Unit::One,
-                    "the damping ratio at rated load is above 0; 0.3 to 1 is usual",
-                )
-            });
-            match (k, z) {
-                (Some(k), Some(z)) if k_ok && z_ok => Some(FilterSizing::Rule {
-                    resonance_ratio: k,
-                    damping: z,
-                }),
-                _ => None,
-            }
-        }
+        },
         (false, None) => {
+            let hint = match kind {
+                FilterKind::L => "add `inductance: 2 mH`".to_string(),
+                FilterKind::Lc => "add `inductance:` and `capacitance:`, or `design: { resonance_ratio: 10, damping: 0.5 }`".to_string(),
+                FilterKind::Lcl => "add `inverter_side_inductance:`, `capacitance:` and `grid_side_inductance:`, or `design: { capacitor_fraction: 5 %, ripple_fraction: 25 %, attenuation: 20 % }`".to_string(),
+            };
             r.error(
                 &s.path,
                 "the filter has neither values nor a sizing rule",
-                Some(
-                    "add `inductance:` and `capacitance:`, or `design: { resonance_ratio: 10, damping: 0.5 }`"
-                        .into(),
-                ),
+                Some(hint),
             );
             None
         }
     };
     s.finish();
-    Some(Filter { sizing: sizing? })
+    Some(Filter {
+        kind,
+        sizing: sizing?,
+    })
+}
+
+fn inductance_ok(r: &Reader, g: &Given) -> bool {
+    in_range(
+        r,
+        g,
+        0.0,
+        1.0,
+        Unit::Henry,
+        "output filter inductors are between µH and a few hundred mH",
+    )
+}
+
+fn read_filter_values(s: &Section, kind: FilterKind) -> Option<FilterValues> {
+    let r = s.reader();
+    let (l, c, l2, rd) = match kind {
+        FilterKind::L => (s.quantity("inductance", Unit::Henry), None, None, None),
+        FilterKind::Lc => (
+            s.quantity("inductance", Unit::Henry),
+            Some(s.quantity("capacitance", Unit::Farad)),
+            None,
+            None,
+        ),
+        FilterKind::Lcl => (
+            s.quantity("inverter_side_inductance", Unit::Henry),
+            Some(s.quantity("capacitance", Unit::Farad)),
+            Some(s.quantity("grid_side_inductance", Unit::Henry)),
+            s.optional_quantity("damping_resistance", Unit::Ohm),
+        ),
+    };
+    let missing =
+        c.as_ref().is_some_and(Option::is_none) || l2.as_ref().is_some_and(Option::is_none);
+    let (l, c, l2) = (l?, c.flatten(), l2.flatten());
+    if missing {
+        return None;
+    }
+    // `&` rather than `&&`: every absurd value is reported.
+    let mut ok = inductance_ok(r, &l);
+    if let Some(c) = &c {
+        ok &= in_range(
+            r,
+            c,
+            0.0,
+            0.1,
+            Unit::Farad,
+            "output filter capacitors are between nF and a few mF",
+        );
+    }
+    if let Some(l2) = &l2 {
+        ok &= inductance_ok(r, l2);
+    }
+    if let Some(rd) = &rd {
+        ok &= in_range(
+            r,
+            rd,
+            -1e-30,
+            1000.0,
+            Unit::Ohm,
+            "a damping resistor in series with the filter capacitor is a few ohms",
+        );
+    }
+    ok.then_some(FilterValues {
+        inductance: l,
+        capacitance: c,
+        grid_side_inductance: l2,
+        damping_resistance: rd,
+    })
+}
+
+fn read_lc_rule(r: &Reader, d: &Section) -> Option<FilterSizing> {
+    let k = d.quantity("resonance_ratio", Unit::One);
+    let z = d.quantity("damping", Unit::One);
+    d.finish();
+    let k_ok = k.as_ref().is_some_and(|k| {
+        in_range(
+            r,
+            k,
+            1.0,
+            1000.0,
+            Unit::One,
+            "the resonance ratio f0/f1 must be above 1; 10 to 40 is usual",
+        )
+    });
+    let z_ok = z.as_ref().is_some_and(|z| {
+        in_range(
+            r,
+            z,
+            0.0,
+            5.0,
+            Unit::One,
+            "the damping ratio at rated load is above 0; 0.3 to 1 is usual",
+        )
+    });
+    match (k, z) {
+        (Some(k), Some(z)) if k_ok && z_ok => Some(FilterSizing::Rule {
+            resonance_ratio: k,
+            damping: z,
+        }),
+        _ => None,
+    }
+}
+
+fn read_lcl_rule(r: &Reader, d: &Section) -> Option<FilterSizing> {
+    let x = d.quantity("capacitor_fraction", Unit::Percent);
+    let k = d.quantity("ripple_fraction", Unit::Percent);
+    let a = d.quantity("attenuation", Unit::Percent);
+    let damped = if d.has("damping") {
+        d.choice("damping", &["resistor", "none"])
+            .map(|c| c == "resistor")
+    } else {
+        Some(false)
+    };
+    d.finish();
+    let ok = [
+        (&x, 0.0, 0.5, "the capacitor's reactive power is a small fraction of rated power; at most 5 % is the usual guideline"),
+        (&k, 0.0, 1.0, "the inverter-side ripple is a fraction of rated peak current; 10 % to 40 % is usual"),
+        (&a, 0.0, 1.0, "the ripple reaching the grid is a fraction of the inverter-side ripple, e.g. 20 %"),
+    ]
+    .map(|(g, lo, hi, why)| g.as_ref().is_some_and(|g| in_range(r, g, lo, hi, Unit::Percent, why)));
+    if !ok.iter().all(|ok| *ok) {
+        return None;
+    }
+    Some(FilterSizing::LclRule(LclRule {
+        capacitor_fraction: x?,
+        ripple_fraction: k?,
+        attenuation: a?,
+        damping_resistor: damped?,
+    }))
+}
+
+fn read_spectrum(section: Option<Section>) -> SpectrumSettings {
+    let Some(s) = section else {
+        return SpectrumSettings { max_order: None };
+    };
+    let r = s.reader();
+    let max_order = s.optional_quantity("max_order", Unit::One);
+    s.finish();
+    if let Some(g) = &max_order {
+        in_range(
+            r,
+            g,
+            1.0,
+            100_000.0,
+            Unit::One,
+            "the highest harmonic order is a number such as 2000 (the default is 5.5 m_f)",
+        );
+    }
+    SpectrumSettings { max_order }
 }
 
 fn limit(
@@ -638,10 +807,32 @@ fn read_limits(section: Option<Section>) -> Option<Limits> {
             0.10,
             "10 % of rated power as the light-load case",
         ),
+        max_ripple_fraction: limit(
+            s,
+            "max_ripple_fraction",
+            Unit::Percent,
+            0.40,
+            "inverter-side ripple of at most 40 % of rated peak current (peak-to-peak), the usual upper end for core loss and current sensing",
+        ),
+        max_voltage_thd: s.and_then(|s| s.optional_quantity("max_voltage_thd", Unit::Percent)),
+        max_voltage_harmonic: s.and_then(|s| s.optional_quantity("max_voltage_harmonic", Unit::Percent)),
     };
     if let Some(s) = s {
         let r = s.reader();
-        let bounds: [(&Limit, f64, f64, Unit, &str); 6] = [
+        for g in [&limits.max_voltage_thd, &limits.max_voltage_harmonic]
+            .into_iter()
+            .flatten()
+        {
+            in_range(
+                r,
+                g,
+                0.0,
+                1.0,
+                Unit::Percent,
+                "a voltage distortion limit is a percentage of the fundamental above 0 %",
+            );
+        }
+        let bounds: [(&Limit, f64, f64, Unit, &str); 7] = [
             (
                 &limits.max_modulation_index,
                 0.0,
@@ -683,6 +874,13 @@ fn read_limits(section: Option<Section>) -> Option<Limits> {
                 1.0,
                 Unit::Percent,
                 "the light-load case is a fraction of rated power above 0 % and at most 100 %",
+            ),
+            (
+                &limits.max_ripple_fraction,
+                0.0,
+                2.0,
+                Unit::Percent,
+                "the ripple limit is a fraction of rated peak current above 0 %",
             ),
         ];
         for (l, lo, hi, unit, why) in bounds {
@@ -726,6 +924,24 @@ fn read_assumptions(root: &Section) -> Vec<Assumption> {
 
 /// Consistency between sections, once each section is valid on its own.
 fn cross_checks(r: &Reader, d: &Design) {
+    let kind = d.filter.kind;
+    let fits = match d.output.connection {
+        Connection::Standalone => kind == FilterKind::Lc,
+        Connection::Grid => matches!(kind, FilterKind::L | FilterKind::Lcl),
+    };
+    if !fits {
+        let (what, hint) = match d.output.connection {
+            Connection::Standalone => (
+                "a stand-alone output needs a capacitor across it to hold its voltage; this engine evaluates `lc` there",
+                "use `type: lc`, or `connection: grid`",
+            ),
+            Connection::Grid => (
+                "a grid-connected output is evaluated with an `l` or `lcl` filter; a capacitor straight on the grid has no inductor to limit its current",
+                "use `type: lcl` (add `grid_side_inductance`), or `type: l`",
+            ),
+        };
+        r.error("filter.type", what, Some(hint.into()));
+    }
     let f1 = d.output.frequency.value;
     let fsw = d.bridge.switching_frequency.value;
     if fsw < 3.0 * f1 {

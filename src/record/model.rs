@@ -74,12 +74,24 @@ pub struct Output {
     /// Of the rated load, lagging; 1 is resistive.
     pub power_factor: Given,
     pub connection: Connection,
+    /// Inductance of the grid behind the point of connection (grid only): the stiff
+    /// source sits behind it, so it adds to the harmonic impedance but not to the
+    /// fundamental, which is given at the point of connection.
+    pub grid_inductance: Option<Given>,
+}
+
+impl Output {
+    pub fn grid(&self) -> bool {
+        self.connection == Connection::Grid
+    }
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Topology {
     HalfBridge,
     FullBridge,
+    /// Two-level three-phase bridge; the output voltage is given line-to-line.
+    ThreePhase,
 }
 
 impl Topology {
@@ -87,6 +99,7 @@ impl Topology {
         match self {
             Topology::HalfBridge => "half-bridge",
             Topology::FullBridge => "full-bridge",
+            Topology::ThreePhase => "three-phase",
         }
     }
 }
@@ -97,6 +110,11 @@ pub enum Pwm {
     Bipolar,
     /// Three-level full-bridge: two legs with opposite references.
     Unipolar,
+    /// Three-phase: one sinusoidal reference per leg, 120 degrees apart.
+    SineTriangle,
+    /// Three-phase: each reference with a sixth of third harmonic added, which raises
+    /// the linear range to m_a = 2/sqrt(3).
+    ThirdHarmonic,
 }
 
 impl Pwm {
@@ -104,6 +122,8 @@ impl Pwm {
         match self {
             Pwm::Bipolar => "bipolar",
             Pwm::Unipolar => "unipolar",
+            Pwm::SineTriangle => "sine-triangle",
+            Pwm::ThirdHarmonic => "third-harmonic",
         }
     }
 }
@@ -116,24 +136,79 @@ pub struct Bridge {
     pub carrier_peak: Option<Given>,
 }
 
-/// How the filter's L and C are obtained.
+/// The output filter's circuit.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum FilterKind {
+    /// One series inductor (grid-connected only).
+    L,
+    /// Series inductor, capacitor across the output (stand-alone).
+    Lc,
+    /// Inverter-side inductor, capacitor (optionally with a series damping resistor),
+    /// grid-side inductor (grid-connected).
+    Lcl,
+}
+
+impl FilterKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            FilterKind::L => "l",
+            FilterKind::Lc => "lc",
+            FilterKind::Lcl => "lcl",
+        }
+    }
+}
+
+/// Component values written in the record.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FilterValues {
+    /// The inductor at the switch node (`inductance`, or `inverter_side_inductance`).
+    pub inductance: Given,
+    pub capacitance: Option<Given>,
+    /// LCL: the inductor between capacitor and grid.
+    pub grid_side_inductance: Option<Given>,
+    /// LCL: a resistor in series with the capacitor (passive damping).
+    pub damping_resistance: Option<Given>,
+}
+
+/// How the filter's values are obtained.
 #[derive(Clone, Debug, PartialEq)]
 pub enum FilterSizing {
-    /// Both values written in the record.
-    Given {
-        inductance: Given,
-        capacitance: Given,
-    },
-    /// Sized by rule: f0 = k f1 and Z0 = 2 zeta R at the heaviest rated load.
+    /// Values written in the record.
+    Given(FilterValues),
+    /// LC sized by rule: f0 = k f1 and Z0 = 2 zeta R at the heaviest rated load.
     Rule {
         resonance_ratio: Given,
         damping: Given,
     },
+    /// LCL sized by the published guideline (capacitor reactive power, inverter-side
+    /// ripple, grid-side attenuation of the ripple).
+    LclRule(LclRule),
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct LclRule {
+    /// Capacitor reactive power at f1 as a fraction of rated power.
+    pub capacitor_fraction: Given,
+    /// Largest inverter-side ripple (peak-to-peak) as a fraction of rated peak current.
+    pub ripple_fraction: Given,
+    /// Switching-frequency ripple reaching the grid as a fraction of that in the
+    /// inverter-side inductor.
+    pub attenuation: Given,
+    /// Size a series damping resistor as well.
+    pub damping_resistor: bool,
 }
 
 #[derive(Clone, Debug, PartialEq)]
 pub struct Filter {
+    pub kind: FilterKind,
     pub sizing: FilterSizing,
+}
+
+/// How far the switching spectrum is computed.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SpectrumSettings {
+    /// Highest harmonic order; `None` for the default (5.5 m_f).
+    pub max_order: Option<Given>,
 }
 
 /// Design limits; each either written in the record or a stated common-practice default.
@@ -145,6 +220,12 @@ pub struct Limits {
     pub max_gain_deviation: Limit,
     pub min_light_load_damping: Limit,
     pub light_load: Limit,
+    /// Largest inverter-side ripple as a fraction of the rated peak current.
+    pub max_ripple_fraction: Limit,
+    /// Stand-alone output voltage distortion; `None` takes IEEE Std 519-2014 Table 1
+    /// for the output voltage.
+    pub max_voltage_thd: Option<Given>,
+    pub max_voltage_harmonic: Option<Given>,
 }
 
 /// One limit and where it comes from.
@@ -181,6 +262,7 @@ pub struct Design {
     pub output: Output,
     pub bridge: Bridge,
     pub filter: Filter,
+    pub spectrum: SpectrumSettings,
     pub limits: Limits,
     pub assumptions: Vec<Assumption>,
     /// Markdown.

@@ -10,6 +10,7 @@ pub mod figures;
 pub mod markup;
 pub mod plot;
 pub mod sections;
+pub mod spectrum_plot;
 pub mod template;
 pub mod typeset;
 

@@ -214,7 +214,7 @@ pub fn line_svg(plot: &LinePlot, width: u32, height: u32) -> Result<String, Plot
 
 /// Refuses sizes whose oversampled drawing grid would overflow `u32`
 /// (checked before any layout multiplies by [`OVERSAMPLE`]).
-fn check_size(width: u32, height: u32) -> Result<(), PlotError> {
+pub(crate) fn check_size(width: u32, height: u32) -> Result<(), PlotError> {
     if width > MAX_SIDE || height > MAX_SIDE {
         return Err(PlotError::BadSize { width, height });
     }
@@ -223,7 +223,7 @@ fn check_size(width: u32, height: u32) -> Result<(), PlotError> {
 
 /// Runs `paint` on an oversampled plotters SVG canvas and returns the
 /// document sized `width` x `height`.
-fn render_svg(
+pub(crate) fn render_svg(
     width: u32,
     height: u32,
     paint: impl FnOnce(&Area) -> DrawResult,
@@ -267,7 +267,7 @@ const PLOTTERS_FONT_SCALE: f64 = 1.24;
 /// times finer than the requested size (and scaling back with the viewBox)
 /// keeps smooth curves free of visible pixel stairs in the PDF, and allows
 /// sub-pixel line widths.
-const OVERSAMPLE: u32 = 4;
+pub(crate) const OVERSAMPLE: u32 = 4;
 /// Upper bound on either side (px) so the oversampled size cannot overflow.
 const MAX_SIDE: u32 = 20_000;
 
@@ -297,35 +297,35 @@ const MAX_Y_INTERVALS: f64 = 8.0;
 
 /// Line plots: share of the data span left free on each side, so no line
 /// or marker sits on the frame, which would hide it.
-const LINE_MARGIN: f64 = 0.04;
+pub(crate) const LINE_MARGIN: f64 = 0.04;
 /// A span below this fraction of the values' magnitude counts as zero
 /// width: tick labels could not tell its ticks apart.
 const FLAT_RELATIVE: f64 = 1e-9;
 /// Linear tick steps are kept above this size: 10^-280 still leaves the
 /// tick arithmetic (and 10^-exponent) far from subnormals.
-const MIN_STEP_EXP: i32 = -280;
+pub(crate) const MIN_STEP_EXP: i32 = -280;
 /// Linear axes: at most this many tick intervals, and ticks at least this
 /// far apart (output px), so the grid guides the eye without crowding.
-const MAX_LIN_X_INTERVALS: f64 = 12.0;
+pub(crate) const MAX_LIN_X_INTERVALS: f64 = 12.0;
 const MAX_LIN_Y_INTERVALS: f64 = 8.0;
-const MIN_X_TICK_SPACING: f64 = 64.0;
-const MIN_Y_TICK_SPACING: f64 = 32.0;
+pub(crate) const MIN_X_TICK_SPACING: f64 = 64.0;
+pub(crate) const MIN_Y_TICK_SPACING: f64 = 32.0;
 /// Level labels: gap (output px) between leader end and text, and the
 /// height (in font sizes) kept clear around each label.
 const LEVEL_TEXT_GAP: f64 = 3.0;
 const LEVEL_ROW: f64 = 1.25;
 
-const INK: RGBColor = RGBColor(30, 30, 30);
+pub(crate) const INK: RGBColor = RGBColor(30, 30, 30);
 const FRAME: RGBColor = RGBColor(60, 60, 60);
-const GRID_MAJOR: RGBColor = RGBColor(196, 196, 196);
-const GRID_MINOR: RGBColor = RGBColor(232, 232, 232);
+pub(crate) const GRID_MAJOR: RGBColor = RGBColor(196, 196, 196);
+pub(crate) const GRID_MINOR: RGBColor = RGBColor(232, 232, 232);
 const GRID_ZERO: RGBColor = RGBColor(140, 140, 140);
 const MARKER: RGBColor = RGBColor(90, 90, 90);
-const BACKGROUND: RGBColor = RGBColor(255, 255, 255);
+pub(crate) const BACKGROUND: RGBColor = RGBColor(255, 255, 255);
 
 /// Curve colours: hues that stay apart for common colour-vision
 /// deficiencies, with lightness spread so they also separate in greyscale.
-const PALETTE: [RGBColor; 7] = [
+pub(crate) const PALETTE: [RGBColor; 7] = [
     RGBColor(0, 90, 170),
     RGBColor(205, 85, 0),
     RGBColor(0, 135, 95),
@@ -507,10 +507,10 @@ fn padded(lo: f64, hi: f64, axis: char) -> Result<Option<(f64, f64)>, PlotError>
 
 /// A vertical axis: range, grid step, and the tick values.
 #[derive(Debug, Clone, PartialEq)]
-struct YAxis {
-    lo: f64,
-    hi: f64,
-    ticks: Vec<f64>,
+pub(crate) struct YAxis {
+    pub(crate) lo: f64,
+    pub(crate) hi: f64,
+    pub(crate) ticks: Vec<f64>,
 }
 
 /// Rounds the data range outwards to a multiple of the first step in
@@ -629,7 +629,7 @@ fn format_tick(v: f64) -> String {
 /// is computed from an exact integer and one power of ten: `lo + i * step`
 /// would accumulate rounding error into the labels (0.30000000000000004).
 #[derive(Debug, Clone, Copy, PartialEq)]
-struct Step {
+pub(crate) struct Step {
     mantissa: i64,
     exp: i32,
 }
@@ -637,7 +637,7 @@ struct Step {
 impl Step {
     /// The smallest 1-2-5 step not below `raw`, or `None` when `raw` is not
     /// a positive number in the range the tick arithmetic handles.
-    fn at_least(raw: f64) -> Option<Step> {
+    pub(crate) fn at_least(raw: f64) -> Option<Step> {
         if !(raw.is_finite() && raw > 0.0) {
             return None;
         }
@@ -658,7 +658,7 @@ impl Step {
         Some(step)
     }
 
-    fn next(self) -> Step {
+    pub(crate) fn next(self) -> Step {
         match self.mantissa {
             1 => Step {
                 mantissa: 2,
@@ -675,7 +675,7 @@ impl Step {
         }
     }
 
-    fn value(self) -> f64 {
+    pub(crate) fn value(self) -> f64 {
         self.times(1)
     }
 
@@ -692,7 +692,7 @@ impl Step {
 
     /// The multiples of the step within `lo..=hi`, ascending. Callers keep
     /// `(hi - lo) / step` small, so the count and `k` stay small too.
-    fn ticks(self, lo: f64, hi: f64) -> Vec<f64> {
+    pub(crate) fn ticks(self, lo: f64, hi: f64) -> Vec<f64> {
         let v = self.value();
         // A tick a billionth of a step outside (rounding) still counts.
         let first = (lo / v - 1e-9).ceil() as i64;
@@ -716,14 +716,14 @@ fn lin_step(lo: f64, hi: f64, max_intervals: f64, axis: char) -> Result<Step, Pl
 /// (2×10⁻⁶ s is 2 µs). A fine step on values near 1 (1.00001, 1.00002)
 /// stays plain: there every digit carries information.
 #[derive(Debug, Clone, Copy, PartialEq)]
-struct NumberFormat {
+pub(crate) struct NumberFormat {
     decimals: usize,
     /// Power of ten factored out of every label, if any.
     exp: Option<i32>,
 }
 
 impl NumberFormat {
-    fn new(step: Step, ticks: &[f64]) -> NumberFormat {
+    pub(crate) fn new(step: Step, ticks: &[f64]) -> NumberFormat {
         let top = ticks.iter().fold(0.0f64, |m, v| m.max(v.abs()));
         if top < 1e6 && (top >= 1e-3 || step.exp >= -4) {
             return NumberFormat {
@@ -745,7 +745,7 @@ impl NumberFormat {
         }
     }
 
-    fn label(&self, v: f64) -> String {
+    pub(crate) fn label(&self, v: f64) -> String {
         let (mantissa, suffix) = match self.exp {
             // A bare "0" reads better than "0.0×10⁶".
             Some(_) if v == 0.0 => return "0".to_string(),
@@ -769,7 +769,7 @@ impl NumberFormat {
 }
 
 /// "×10⁶", "×10⁻⁵" for `exp`.
-fn superscript_power(exp: i32) -> String {
+pub(crate) fn superscript_power(exp: i32) -> String {
     const DIGITS: [char; 10] = ['⁰', '¹', '²', '³', '⁴', '⁵', '⁶', '⁷', '⁸', '⁹'];
     let mut s = String::from("×10");
     if exp < 0 {
@@ -782,7 +782,7 @@ fn superscript_power(exp: i32) -> String {
 }
 
 /// Estimated rendered width of `text` at SVG font size `size`.
-fn text_width(text: &str, size: f64) -> f64 {
+pub(crate) fn text_width(text: &str, size: f64) -> f64 {
     let per_mille: u32 = text
         .chars()
         .map(|c| {
@@ -856,52 +856,52 @@ fn spread_labels(items: &[(f64, f64)], pad: f64, lo: f64, hi: f64) -> Vec<f64> {
 // Layout
 
 /// One panel's rectangle (pixels) and its value axis.
-struct Panel {
-    left: f64,
-    right: f64,
-    top: f64,
-    bottom: f64,
-    axis: YAxis,
+pub(crate) struct Panel {
+    pub(crate) left: f64,
+    pub(crate) right: f64,
+    pub(crate) top: f64,
+    pub(crate) bottom: f64,
+    pub(crate) axis: YAxis,
 }
 
 impl Panel {
-    fn y(&self, v: f64) -> f64 {
+    pub(crate) fn y(&self, v: f64) -> f64 {
         self.bottom - (v - self.axis.lo) / (self.axis.hi - self.axis.lo) * (self.bottom - self.top)
     }
 }
 
 /// A legend entry: which curve (or series) it names, and where its line
 /// sample starts (left end, vertical centre).
-struct LegendEntry {
-    curve: usize,
-    x: f64,
-    y: f64,
+pub(crate) struct LegendEntry {
+    pub(crate) curve: usize,
+    pub(crate) x: f64,
+    pub(crate) y: f64,
 }
 
-struct MarkerLabel {
-    marker: usize,
-    cx: f64,
+pub(crate) struct MarkerLabel {
+    pub(crate) marker: usize,
+    pub(crate) cx: f64,
 }
 
 /// Font sizes (SVG px) and spacings, all scaled with the canvas.
-struct Sizes {
-    k: f64,
-    margin: f64,
-    title: f64,
-    legend: f64,
-    tick: f64,
-    axis_title: f64,
-    marker: f64,
-    legend_row: f64,
-    legend_sample: f64,
-    legend_text_gap: f64,
-    legend_gap: f64,
-    marker_row: f64,
-    leader: f64,
+pub(crate) struct Sizes {
+    pub(crate) k: f64,
+    pub(crate) margin: f64,
+    pub(crate) title: f64,
+    pub(crate) legend: f64,
+    pub(crate) tick: f64,
+    pub(crate) axis_title: f64,
+    pub(crate) marker: f64,
+    pub(crate) legend_row: f64,
+    pub(crate) legend_sample: f64,
+    pub(crate) legend_text_gap: f64,
+    pub(crate) legend_gap: f64,
+    pub(crate) marker_row: f64,
+    pub(crate) leader: f64,
 }
 
 impl Sizes {
-    fn new(width: u32, height: u32) -> Sizes {
+    pub(crate) fn new(width: u32, height: u32) -> Sizes {
         // Designed at 720 x 560; scaling keeps the proportions at other
         // sizes, within bounds where text stays readable.
         let k = (f64::from(width) / 720.0)
@@ -927,7 +927,7 @@ impl Sizes {
 }
 
 /// The canvas in drawing units. All layout is done on the oversampled grid.
-fn canvas(width: u32, height: u32) -> (f64, f64) {
+pub(crate) fn canvas(width: u32, height: u32) -> (f64, f64) {
     (
         f64::from(width * OVERSAMPLE),
         f64::from(height * OVERSAMPLE),
@@ -935,35 +935,35 @@ fn canvas(width: u32, height: u32) -> (f64, f64) {
 }
 
 /// Centre of the rotated y-axis title column.
-fn y_title_x(s: &Sizes) -> f64 {
+pub(crate) fn y_title_x(s: &Sizes) -> f64 {
     s.margin + 0.6 * s.axis_title
 }
 
 /// Left edge of the panels: the y-axis title column, tick labels up to
 /// `tick_label_w` wide, and a gap.
-fn panels_left(s: &Sizes, tick_label_w: f64) -> f64 {
+pub(crate) fn panels_left(s: &Sizes, tick_label_w: f64) -> f64 {
     s.margin + 1.4 * s.axis_title + tick_label_w + 8.0 * s.k
 }
 
 /// Space right of the panels: a margin, or half the last x tick label if
 /// that is wider (the label is centred on its tick, which may be the edge).
-fn right_margin(s: &Sizes, last_label_w: f64) -> f64 {
+pub(crate) fn right_margin(s: &Sizes, last_label_w: f64) -> f64 {
     (s.margin + 8.0 * s.k).max(last_label_w / 2.0 + s.margin * 0.5)
 }
 
 /// Everything above the panels: title, legend, marker label row.
-struct Header {
-    title_y: f64,
-    legend: Vec<LegendEntry>,
+pub(crate) struct Header {
+    pub(crate) title_y: f64,
+    pub(crate) legend: Vec<LegendEntry>,
     /// Vertical centre of the marker label row.
-    marker_label_y: f64,
+    pub(crate) marker_label_y: f64,
     /// Where the (first) panel starts.
-    panel_top: f64,
+    pub(crate) panel_top: f64,
 }
 
 /// Stacks title, legend and marker label row from the top of the canvas.
 /// `labels` are the curves' legend labels (empty ones get no entry).
-fn header(
+pub(crate) fn header(
     s: &Sizes,
     title: &str,
     labels: &[&str],
@@ -1046,16 +1046,16 @@ fn header(
 }
 
 /// Everything below the panels: x tick labels, then the x axis title.
-struct Footer {
+pub(crate) struct Footer {
     /// Where the (last) panel ends.
-    panel_bottom: f64,
+    pub(crate) panel_bottom: f64,
     /// Top of the x tick labels.
-    x_label_y: f64,
+    pub(crate) x_label_y: f64,
     /// Vertical centre of the x axis title.
-    x_title_y: f64,
+    pub(crate) x_title_y: f64,
 }
 
-fn footer(s: &Sizes, h: f64) -> Footer {
+pub(crate) fn footer(s: &Sizes, h: f64) -> Footer {
     let bottom_margin = s.margin * 0.6;
     let x_title_h = s.axis_title * 1.5;
     let x_label_h = s.tick * 1.6;
@@ -1072,7 +1072,7 @@ fn footer(s: &Sizes, h: f64) -> Footer {
 /// pushed apart sideways and joined to their lines by slanted leaders,
 /// rather than overprinting. `x_of` maps a marker position to pixels; `w`
 /// is the canvas width.
-fn place_marker_labels(
+pub(crate) fn place_marker_labels(
     s: &Sizes,
     markers: &[Marker],
     x_of: impl Fn(f64) -> f64,
@@ -1414,19 +1414,19 @@ impl LineLayout {
 // ---------------------------------------------------------------------------
 // Drawing
 
-type Area<'a> = DrawingArea<SVGBackend<'a>, Shift>;
-type DrawResult = Result<(), plotters::drawing::DrawingAreaErrorKind<std::io::Error>>;
+pub(crate) type Area<'a> = DrawingArea<SVGBackend<'a>, Shift>;
+pub(crate) type DrawResult = Result<(), plotters::drawing::DrawingAreaErrorKind<std::io::Error>>;
 
-fn px(x: f64, y: f64) -> (i32, i32) {
+pub(crate) fn px(x: f64, y: f64) -> (i32, i32) {
     (x.round() as i32, y.round() as i32)
 }
 
 /// Stroke width in drawing units for a width given in output px.
-fn stroke(k: f64, width_px: f64) -> u32 {
+pub(crate) fn stroke(k: f64, width_px: f64) -> u32 {
     (width_px * k).round().max(1.0) as u32
 }
 
-fn text_style(size: f64, color: &RGBColor, h: HPos, v: VPos) -> TextStyle<'static> {
+pub(crate) fn text_style(size: f64, color: &RGBColor, h: HPos, v: VPos) -> TextStyle<'static> {
     (FONT_FAMILY, size * PLOTTERS_FONT_SCALE)
         .into_font()
         .color(color)
@@ -1575,11 +1575,17 @@ fn draw_line_plot(root: &Area, plot: &LinePlot, l: &LineLayout) -> DrawResult {
 }
 
 /// Thin grid line style.
-fn grid_style(s: &Sizes, color: &RGBColor) -> LineStyle {
+pub(crate) fn grid_style(s: &Sizes, color: &RGBColor) -> LineStyle {
     LineStyle::solid(color, stroke(s.k, 0.75))
 }
 
-fn draw_v_grid_line(root: &Area, s: &Sizes, panel: &Panel, x: f64, color: &RGBColor) -> DrawResult {
+pub(crate) fn draw_v_grid_line(
+    root: &Area,
+    s: &Sizes,
+    panel: &Panel,
+    x: f64,
+    color: &RGBColor,
+) -> DrawResult {
     draw_line(
         root,
         &[(x, panel.top), (x, panel.bottom)],
@@ -1605,7 +1611,7 @@ fn draw_h_grid(root: &Area, s: &Sizes, panel: &Panel) -> DrawResult {
 /// The panel outline, drawn after the curves so curve ends at the edges
 /// are tidied by it. One polyline starting mid-edge, so all four corners
 /// are mitred joins (plotters' rectangle has no stroke width).
-fn draw_frame(root: &Area, s: &Sizes, panel: &Panel) -> DrawResult {
+pub(crate) fn draw_frame(root: &Area, s: &Sizes, panel: &Panel) -> DrawResult {
     let mid = (panel.left + panel.right) / 2.0;
     let frame = [
         (mid, panel.top),
@@ -1637,7 +1643,7 @@ fn draw_y_tick_labels(
 
 /// Axis titles; an empty one is left out (its space stays, so figures
 /// with and without it line up).
-fn draw_x_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResult {
+pub(crate) fn draw_x_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResult {
     if title.is_empty() {
         return Ok(());
     }
@@ -1648,7 +1654,13 @@ fn draw_x_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResu
     ))
 }
 
-fn draw_y_title(root: &Area, s: &Sizes, title: &str, x: f64, panel: &Panel) -> DrawResult {
+pub(crate) fn draw_y_title(
+    root: &Area,
+    s: &Sizes,
+    title: &str,
+    x: f64,
+    panel: &Panel,
+) -> DrawResult {
     if title.is_empty() {
         return Ok(());
     }
@@ -1660,7 +1672,7 @@ fn draw_y_title(root: &Area, s: &Sizes, title: &str, x: f64, panel: &Panel) -> D
     ))
 }
 
-fn draw_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResult {
+pub(crate) fn draw_title(root: &Area, s: &Sizes, title: &str, x: f64, y: f64) -> DrawResult {
     if title.is_empty() {
         return Ok(());
     }
@@ -1717,7 +1729,7 @@ fn reference_style(s: &Sizes) -> LineStyle {
 
 /// Marker lines through every panel in `panels` (top to bottom), and their
 /// labels in the row above the first.
-fn draw_markers(
+pub(crate) fn draw_markers(
     root: &Area,
     s: &Sizes,
     markers: &[Marker],
@@ -1750,13 +1762,13 @@ fn draw_markers(
 
 /// Colour and width, plus a dash pattern (on, off, on, off, ... in drawing
 /// units; empty for a solid line).
-struct LineStyle {
-    shape: ShapeStyle,
-    dash: Vec<f64>,
+pub(crate) struct LineStyle {
+    pub(crate) shape: ShapeStyle,
+    pub(crate) dash: Vec<f64>,
 }
 
 impl LineStyle {
-    fn solid(color: &RGBColor, width: u32) -> LineStyle {
+    pub(crate) fn solid(color: &RGBColor, width: u32) -> LineStyle {
         LineStyle {
             shape: ShapeStyle::from(color).stroke_width(width),
             dash: Vec::new(),
@@ -1771,7 +1783,7 @@ fn curve_style(i: usize, k: f64) -> LineStyle {
     }
 }
 
-fn draw_line(root: &Area, pts: &[(f64, f64)], style: &LineStyle) -> DrawResult {
+pub(crate) fn draw_line(root: &Area, pts: &[(f64, f64)], style: &LineStyle) -> DrawResult {
     let pieces = if style.dash.is_empty() {
         vec![pts.to_vec()]
     } else {

@@ -28,11 +28,22 @@ pub const SUBJECTS: &[(&str, &str, &[&str])] = &[
         "Operating points and load",
         &["dc.", "output.", "bridge.", "load.", "limits.light_load"],
     ),
-    ("filter", "Output filter", &["filter."]),
+    ("filter", "Output filter", &["filter.", "grid."]),
     (
         "modulation",
         "Modulation",
         &["modulation.", "limits.max_modulation_index"],
+    ),
+    ("spectrum", "Switch-node spectrum", &["spectrum."]),
+    (
+        "quality",
+        "Output quality and harmonic compliance",
+        &["quality.", "limits.max_voltage_"],
+    ),
+    (
+        "ripple",
+        "Ripple current and filter stresses",
+        &["ripple.", "limits.max_ripple_fraction"],
     ),
     ("limits", "Design limits", &["limits."]),
 ];
@@ -52,6 +63,10 @@ pub const ENGINE_ASSUMPTIONS: &[(&str, &str)] = &[
     ("E3", "The load is a constant impedance: a resistance for the real power in parallel with an inductance for the reactive power of the lagging power factor."),
     ("E4", "Modulation is sine-triangle PWM; modulation indices follow from switching-period averages of the bridge output."),
     ("E5", "The DC voltage is constant at each operating point (no ripple at the output or switching frequency)."),
+    ("E6", "The inductor ripple current is that of the inductor between the switch node and a sinusoidal voltage (the filter capacitor's, or the grid's behind an L filter), integrated over each carrier period of the exact PWM waveform."),
+    ("E7", "The switching spectrum is that of ideal naturally sampled PWM at a constant DC voltage: low-order harmonics from dead time, device drops, DC ripple, sampling delay and control are not in it, and must be covered by measurement."),
+    ("E8", "A grid-connected bridge sees a stiff sinusoidal grid source free of harmonics behind the stated grid inductance (zero where none is stated)."),
+    ("E9", "The grid current is at the rated power and power factor, lagging the voltage at the connection point by arccos of the power factor; a balanced three-phase output is evaluated per phase."),
 ];
 
 /// Everything the sections need.
@@ -86,6 +101,7 @@ const BLOCKS: &[&str] = &[
     "plot",
     "pagebreak",
     "contents",
+    "findings",
 ];
 
 impl Resolver for Context<'_> {
@@ -113,6 +129,7 @@ impl Resolver for Context<'_> {
             }
             ("calculation", Some(subject)) => self.calculation(subject),
             ("plot", Some(plot)) => self.plot(plot),
+            ("findings", Some(subject)) => self.findings(subject),
             ("pagebreak", None) => Ok("#pagebreak(weak: true)".to_string()),
             ("contents", None) => Ok("#contents-block()".to_string()),
             (known, _) if BLOCKS.contains(&known) => Err(err(
@@ -192,6 +209,34 @@ impl Resolver for Context<'_> {
             )),
         }
     }
+}
+
+/// A spectral line other than the fundamental: an id segment `h<digit>...` other
+/// than `h1` (`spectrum.switch.h41.min`, `quality.v.h399`).
+pub fn is_spectral_line(id: &str) -> bool {
+    id.split('.').any(|seg| {
+        seg.len() > 1
+            && seg.starts_with('h')
+            && seg[1..].chars().all(|c| c.is_ascii_digit() || c == '_')
+            && seg != "h1"
+    })
+}
+
+/// The id with its order segment replaced by `h*`: the kind of line.
+fn line_stem(id: &str) -> String {
+    id.split('.')
+        .map(|seg| {
+            if seg.len() > 1
+                && seg.starts_with('h')
+                && seg[1..].starts_with(|c: char| c.is_ascii_digit())
+            {
+                "h*"
+            } else {
+                seg
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(".")
 }
 
 /// A source as printed in the package: the terminal's backticks around keys dropped.
@@ -393,11 +438,26 @@ impl Context<'_> {
         let v_dc = format_value(s.value("dc.v_max"), Unit::Volt);
         let v = s.value("output.v_peak");
         let v_pk = format_value(v, Unit::Volt);
-        let c = s.value("filter.capacitance");
-        let energy = format_value(0.5 * c * v * v, Unit::Joule);
+        let output = if self.design.output.grid() {
+            "the grid connection peaks at"
+        } else {
+            "the output peaks at"
+        };
+        let filter_energy = match s.get("filter.capacitance") {
+            Some(c) => format!(
+                "the output filter capacitor alone holds up to {} at the output peak, and ",
+                format_value(0.5 * c.value * v * v, Unit::Joule)
+            ),
+            None => String::new(),
+        };
+        let grid = if self.design.output.grid() {
+            " A grid-connected inverter is also energised from the grid side: isolate and lock out the grid connection as well as the DC source."
+        } else {
+            ""
+        };
         let items = [
-            format!("Hazardous voltage. The DC input reaches {v_dc} and the output peaks at {v_pk}; both can kill. Work on this equipment only de-energised, isolated and verified dead, by qualified persons."),
-            format!("Stored energy. Capacitors stay charged after the source is disconnected: the output filter capacitor alone holds up to {energy} at the output peak, and the DC-link capacitors (not evaluated in this package) usually hold far more. Measure before touching; do not rely on bleeder resistors."),
+            format!("Hazardous voltage. The DC input reaches {v_dc} and {output} {v_pk}; both can kill. Work on this equipment only de-energised, isolated and verified dead, by qualified persons.{grid}"),
+            format!("Stored energy. Capacitors stay charged after the source is disconnected: {filter_energy}the DC-link capacitors (not evaluated in this package) usually hold far more. Measure before touching; do not rely on bleeder resistors."),
             "This package does not replace review and sealing by a licensed professional engineer. Its numbers are only as good as the record's inputs and the stated assumptions.".to_string(),
             "Local electrical codes, the authority having jurisdiction and the utility's interconnection rules prevail over anything in this package.".to_string(),
         ];
@@ -440,12 +500,13 @@ impl Context<'_> {
             ));
         };
         let mut out = format!("#calc-section({})[\n", string(title));
-        for q in self
+        let (lines, entries): (Vec<&Quantity>, Vec<&Quantity>) = self
             .sheet
             .quantities
             .iter()
             .filter(|q| subject_of(&q.id) == *name)
-        {
+            .partition(|q| is_spectral_line(&q.id));
+        for q in entries {
             out.push_str(&format!(
                 "#calc-entry(id: {}, name: {}, source: {}, input: {})[{}]\n",
                 string(&q.id),
@@ -455,8 +516,113 @@ impl Context<'_> {
                 equation_block(q)
             ));
         }
+        // Lines of one kind (same id stem) share a formula: one table per stem.
+        let mut stems: Vec<(String, Vec<&Quantity>)> = Vec::new();
+        for q in lines {
+            let stem = line_stem(&q.id);
+            match stems.iter_mut().find(|(s, _)| *s == stem) {
+                Some((_, v)) => v.push(q),
+                None => stems.push((stem, vec![q])),
+            }
+        }
+        for (stem, qs) in stems {
+            let first = qs[0];
+            let rows: Vec<String> = qs
+                .iter()
+                .map(|q| {
+                    format!(
+                        "({}, {}, {})",
+                        string(&q.id),
+                        string(&q.name),
+                        string(&q.display())
+                    )
+                })
+                .collect();
+            out.push_str(&format!(
+                "#line-table(title: {}, source: {}, ({},))\n",
+                string(&format!("Spectral lines {stem}")),
+                string(&pdf_source(&first.source)),
+                rows.join(", ")
+            ));
+        }
         out.push(']');
         Ok(out)
+    }
+
+    /// A short paragraph of the main results of a subject, worded for the design's
+    /// connection and filter, so that one template serves every kind of design.
+    fn findings(&self, subject: &str) -> Result<String, (String, String)> {
+        let s = self.sheet;
+        let v = |id: &str| s.get(id).map(value_markup);
+        let grid = self.design.output.grid();
+        let para = match subject {
+            "filter" if grid => match (v("filter.f_res"), v("filter.inductance")) {
+                (Some(fr), Some(l1)) => format!(
+                    "The LCL filter has an inverter-side inductance of {l1}, a capacitor of {}, and a grid-side inductance of {}; with the grid's own {} its resonance lies at {fr}.{}",
+                    v("filter.capacitance").unwrap_or_default(),
+                    v("filter.grid_side_inductance").unwrap_or_default(),
+                    v("grid.inductance").unwrap_or_default(),
+                    v("filter.damping_resistance").map_or(String::new(), |r| format!(" A damping resistor of {r} in series with the capacitor takes out the resonant peak.")),
+                ),
+                (None, Some(l)) => format!(
+                    "The L filter has an inductance of {l}, with the grid's own {} behind the connection point.",
+                    v("grid.inductance").unwrap_or_default()
+                ),
+                _ => String::new(),
+            },
+            "filter" => format!(
+                "The filter's resonance lies at {}, with a characteristic impedance of {}. At rated load its damping ratio is {}; at light load it falls to {}.",
+                v("filter.f0").unwrap_or_default(),
+                v("filter.z0").unwrap_or_default(),
+                v("filter.zeta").unwrap_or_default(),
+                v("filter.zeta_light").unwrap_or_default(),
+            ),
+            "spectrum" => match (v("spectrum.switch.thd.nominal"), v("spectrum.switch.h1.nominal")) {
+                (Some(thd), Some(v1)) => format!(
+                    "At the DC nominal the switch-node fundamental is {v1} (peak) and the switch-node THD {thd} (weighted THD {}), computed by the {} method.{}",
+                    v("spectrum.switch.wthd.nominal").unwrap_or_default(),
+                    s.get("spectrum.switch.h1.nominal").map_or("", |q| if q.name.ends_with("analytic method") { "analytic" } else { "numerical" }),
+                    v("spectrum.crosscheck.nominal").map_or(String::new(), |e| format!(" The numerical spectrum of the exact waveform agrees with the analytic series to {e} of half the DC voltage.")),
+                ),
+                _ => "No switching spectrum was computed for this design; see the warnings.".to_string(),
+            },
+            "quality" if grid => match v("quality.i_trd_worst") {
+                Some(trd) => format!(
+                    "The grid current's total rated-current distortion is at most {trd} over the DC window. {}",
+                    match (v("quality.i_h_worst"), s.get("quality.i_h_worst").and_then(|q| q.name.split(": ").nth(1))) {
+                        (Some(h), Some(at)) => format!("The harmonic nearest its individual limit is {h} of rated current ({at})."),
+                        _ => "No integer harmonic below order 50 carries current in the ideal PWM spectrum; the individual limits are met trivially by the analysis, and low-order harmonics from dead time and control must be covered by measurement.".to_string(),
+                    }
+                ),
+                None => String::new(),
+            },
+            "quality" => match v("quality.v_thd_worst") {
+                Some(thd) => format!(
+                    "The output voltage THD is at most {thd} ({}) against a limit of {}; the largest single line is {} of the fundamental ({}).",
+                    s.get("quality.v_thd_worst").and_then(|q| q.name.split(": ").nth(1)).unwrap_or_default(),
+                    v("limits.max_voltage_thd").unwrap_or_default(),
+                    v("quality.v_h_worst").unwrap_or_default(),
+                    s.get("quality.v_h_worst").and_then(|q| q.name.split(": ").nth(1)).unwrap_or_default(),
+                ),
+                None => String::new(),
+            },
+            "ripple" => match v("ripple.i_pp_max") {
+                Some(r) => format!(
+                    "The inductor ripple current reaches {r} peak-to-peak, {} of the rated peak current; with it the inductor peaks at {}.{}",
+                    v("ripple.fraction").unwrap_or_default(),
+                    v("filter.i_l_peak").unwrap_or_default(),
+                    v("filter.i_c_rms").map_or(String::new(), |i| format!(" The filter capacitor carries {i} rms.")),
+                ),
+                None => String::new(),
+            },
+            other => {
+                return Err(err(
+                    format!("no findings for `{other}`"),
+                    "use `@place findings filter`, `spectrum`, `quality` or `ripple`",
+                ))
+            }
+        };
+        Ok(para)
     }
 
     fn plot(&self, name: &str) -> Result<String, (String, String)> {

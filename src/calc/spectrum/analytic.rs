@@ -19,12 +19,16 @@
 //! carrier multiples and odd sidebands about even ones.
 //!
 //! The other bridges combine legs whose references are shifted (see
-//! `Modulation::leg_factor`).
+//! `Modulation::leg_factor`). A reference with an injected third harmonic
+//! (`Modulation::ThreePhaseThirdHarmonic`) has no such closed form in single Bessel
+//! functions (the y integral of sin(m pi/2 + z cos y - (z/6) cos 3y) is a sum of
+//! products of them), so it is left to the numerical spectrum and rejected here with
+//! [`SpectrumError::NoSeries`].
 
 use super::bessel;
 use super::{
-    check, check_order, combine, integer_orders, synchronous, window, Component, Line, Pwm,
-    SpectrumError, MIN_ANALYTIC_CARRIER_RATIO,
+    check, check_order, combine, integer_orders, synchronous, window, Component, Line, Modulation,
+    Pwm, SpectrumError, MIN_ANALYTIC_CARRIER_RATIO,
 };
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -61,9 +65,12 @@ fn sideband_reach(z: f64) -> usize {
 /// output, per unit of V/2, sorted by order, then carrier, then sideband. Terms whose
 /// amplitude is exactly zero (by sin((m+n) pi/2) or a leg factor) are left out.
 ///
-/// Valid for 0 <= m_a <= 1 and m_f >= 3, integer or not.
+/// Valid for 0 <= m_a <= 1 and m_f >= 3, integer or not, and sinusoidal references:
+/// every modulation but [`Modulation::ThreePhaseThirdHarmonic`], which gets
+/// [`SpectrumError::NoSeries`].
 pub fn components(pwm: &Pwm, max_order: f64) -> Result<Vec<Component>, SpectrumError> {
     check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
+    covered(pwm.modulation)?;
     check_order(max_order)?;
     if pwm.m_a > 1.0 {
         return Err(SpectrumError::Overmodulation(pwm.m_a));
@@ -120,6 +127,17 @@ pub fn components(pwm: &Pwm, max_order: f64) -> Result<Vec<Component>, SpectrumE
     Ok(out)
 }
 
+/// Whether the series describes this modulation: sinusoidal references only.
+fn covered(modulation: Modulation) -> Result<(), SpectrumError> {
+    match modulation {
+        Modulation::HalfBridge
+        | Modulation::FullBridgeBipolar
+        | Modulation::FullBridgeUnipolar
+        | Modulation::ThreePhase => Ok(()),
+        Modulation::ThreePhaseThirdHarmonic => Err(SpectrumError::NoSeries(modulation)),
+    }
+}
+
 /// Adds the term Re[k e^(j order theta)], folding a negative order onto the positive
 /// one with the conjugate phasor.
 fn push(out: &mut Vec<Component>, carrier: u32, sideband: i32, order: f64, k: Complex64) {
@@ -170,6 +188,7 @@ pub fn lines(pwm: &Pwm, max_order: f64) -> Result<Vec<Line>, SpectrumError> {
 /// m_f, every term of the series at that order added as a phasor: entry h is order h.
 pub fn harmonics(pwm: &Pwm, max_order: u32) -> Result<Vec<(u32, f64)>, SpectrumError> {
     check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
+    covered(pwm.modulation)?;
     if !synchronous(pwm.m_f) {
         return Err(SpectrumError::NotSynchronous(pwm.m_f));
     }

@@ -4,13 +4,16 @@
 //! - [`components`], [`lines`], [`harmonics`]: the analytic double Fourier series of
 //!   H. S. Black, Modulation Theory (1953), as given for a two-level leg by D. G. Holmes,
 //!   T. A. Lipo, Pulse Width Modulation for Power Converters (2003), chapter 3, with
-//!   Bessel functions from [`bessel_j`]; linear modulation only (m_a <= 1).
+//!   Bessel functions from [`bessel_j`]; linear modulation only (m_a <= 1), sinusoidal
+//!   references only.
 //! - [`edges`], [`leg_edges`], [`numerical_lines`], [`numerical_harmonics`]: the exact
 //!   switching waveform from the carrier/reference crossings, and its spectrum by FFT;
-//!   valid in overmodulation too.
+//!   valid in overmodulation too, and the only method for third-harmonic injection
+//!   ([`Modulation::ThreePhaseThirdHarmonic`]).
 //!
 //! Conventions shared by both, so that phases agree: angles are of the fundamental,
-//! theta = omega_o t in radians; leg a has the reference m_a cos(theta); the triangular
+//! theta = omega_o t in radians; leg a has the reference m_a cos(theta) (with
+//! third-harmonic injection m_a (cos(theta) - cos(3 theta) / 6)); the triangular
 //! carrier runs between -1 and +1 with its minimum at theta = 0; a leg is at +1 (upper
 //! switch on) while the reference is above the carrier. A component of amplitude A and
 //! phase phi contributes A cos(order theta + phi). Each function states its own range.
@@ -56,6 +59,17 @@ pub enum Modulation {
     /// Line-to-line voltage v_ab of a two-level three-phase bridge; legs b and c have
     /// their references shifted by -120 and +120 degrees, one common carrier.
     ThreePhase,
+    /// As [`Modulation::ThreePhase`] (same legs, carrier and v_ab), with a sixth of the
+    /// third harmonic injected into each leg's reference: m_a (cos(x) - cos(3 x) / 6),
+    /// x = theta + delta. The third harmonic is the same in all three legs (3 delta is a
+    /// whole number of turns), so it cancels in v_ab, while it flattens the reference:
+    /// its peak is (sqrt(3)/2) m_a, at x = +-30 degrees, and the linear range extends to
+    /// m_a = 2/sqrt(3) (J. A. Houldsworth, D. A. Grant, "The use of harmonic distortion
+    /// to increase the output voltage of a three-phase PWM inverter", IEEE Trans. Ind.
+    /// Appl., 1984; from memory). The sign is that of the sine form
+    /// sin(x) + sin(3 x) / 6 moved to cosines: with + cos(3 x) / 6 the peak would rise
+    /// to (7/6) m_a instead. Numerical spectrum only.
+    ThreePhaseThirdHarmonic,
 }
 
 /// One leg of a bridge, as seen by the comparator.
@@ -96,7 +110,7 @@ impl Modulation {
                     inverted: false,
                 },
             ],
-            Modulation::ThreePhase => &[
+            Modulation::ThreePhase | Modulation::ThreePhaseThirdHarmonic => &[
                 LEG_A,
                 Leg {
                     num: -1,
@@ -117,6 +131,31 @@ impl Modulation {
         self.leg_set().len()
     }
 
+    /// The largest m_a of linear modulation, where the reference's peak just reaches
+    /// the carrier's (|r| <= 1): 1 for a sinusoidal reference, 2/sqrt(3) with
+    /// third-harmonic injection, whose reference peaks at (sqrt(3)/2) m_a (Houldsworth
+    /// and Grant 1984; from memory). Above it pulses drop (overmodulation).
+    pub fn linear_limit(self) -> f64 {
+        match self {
+            Modulation::HalfBridge
+            | Modulation::FullBridgeBipolar
+            | Modulation::FullBridgeUnipolar
+            | Modulation::ThreePhase => 1.0,
+            Modulation::ThreePhaseThirdHarmonic => 2.0 / 3f64.sqrt(),
+        }
+    }
+
+    /// Whether each leg's reference carries the injected third harmonic.
+    fn third_harmonic(self) -> bool {
+        match self {
+            Modulation::ThreePhaseThirdHarmonic => true,
+            Modulation::HalfBridge
+            | Modulation::FullBridgeBipolar
+            | Modulation::FullBridgeUnipolar
+            | Modulation::ThreePhase => false,
+        }
+    }
+
     /// The output voltage as a combination of leg voltages: (leg index, weight).
     fn output(self) -> &'static [(usize, f64)] {
         match self {
@@ -135,7 +174,9 @@ impl Modulation {
     /// and 0 for even n; three-phase v_ab: 1 - e^(-j 2 pi n / 3)
     /// = 2 sin(n pi / 3) e^(j (pi/2 - n pi/3)), of magnitude 2 |sin(n pi / 3)|, zero for
     /// n a multiple of 3. The m = 0 term (n = 1, the fundamental) follows the same rule:
-    /// 2 m_a for both full bridges, sqrt(3) m_a at +30 degrees for v_ab.
+    /// 2 m_a for both full bridges, sqrt(3) m_a at +30 degrees for v_ab. Third-harmonic
+    /// injection has the legs and output of three-phase, so the same factors; its leg b
+    /// is leg a's waveform in y + delta too, as 3 delta is whole turns.
     fn leg_factor(self, n: i32) -> Complex64 {
         self.output()
             .iter()
@@ -219,6 +260,9 @@ pub enum SpectrumError {
     Samples(usize),
     /// There is no leg with this index.
     Leg(usize),
+    /// The analytic series does not cover this modulation (third-harmonic injection);
+    /// the numerical spectrum does.
+    NoSeries(Modulation),
 }
 
 /// The values stay in the variants for the caller to print with its units: the engine
@@ -244,6 +288,9 @@ impl fmt::Display for SpectrumError {
                 "the samples per period are not a power of two above four times the highest order"
             }
             SpectrumError::Leg(_) => "the bridge has no leg of that index",
+            SpectrumError::NoSeries(_) => {
+                "the analytic series covers sinusoidal references only, not this modulation; the numerical spectrum does"
+            }
         };
         f.write_str(text)
     }

@@ -9,13 +9,22 @@
 //! at most one root, found by a safeguarded Newton iteration to about 1e-14 rad, far
 //! inside 1e-12 of the period. With m_f = p / q the waveform repeats after q
 //! fundamental periods, which is the window used.
+//!
+//! With third-harmonic injection the reference is r = m_a (cos x - cos(3 x) / 6),
+//! x = theta + delta, and the turning points of r - c, the roots of r' - c', have no
+//! such simple closed form. They are bracketed instead by the turning points of r'
+//! itself: r'' = m_a (-cos x + (3/2) cos 3x) = m_a cos x (6 cos^2 x - 11/2) (with
+//! cos 3x = 4 cos^3 x - 3 cos x) vanishes exactly where cos x = 0 or
+//! cos x = +-sqrt(11/12), six fixed points a turn. Between two of them r' - c' is
+//! monotone, so it has at most one root there, which the same safeguarded Newton
+//! iteration finds; none can be missed, however close two roots are.
 
 use super::{
     check, check_order, integer_orders, line, synchronous, window, Leg, Line, Pwm, SpectrumError,
 };
 use num_complex::Complex64;
 use rustfft::FftPlanner;
-use std::f64::consts::PI;
+use std::f64::consts::{FRAC_PI_2, PI};
 
 /// Samples per fundamental period of the FFT. The aliases left after the rectangle
 /// correction grow with (h / N)^2; against the analytic series the lines agree to about
@@ -96,7 +105,14 @@ struct Comparator {
     phase: f64,
     /// Carrier half-period, radians of the fundamental.
     half: f64,
+    /// The reference carries the injected third harmonic: m_a (cos x - cos(3 x) / 6).
+    third: bool,
 }
+
+/// The injected third harmonic relative to the fundamental of the reference (Houldsworth
+/// and Grant 1984; from memory). Negative in the cosine form: see
+/// `Modulation::ThreePhaseThirdHarmonic`.
+const THIRD: f64 = -1.0 / 6.0;
 
 impl Comparator {
     fn bound(&self, j: u64) -> f64 {
@@ -112,6 +128,32 @@ impl Comparator {
         }
     }
 
+    /// The reference at theta.
+    fn reference(&self, theta: f64) -> f64 {
+        let x = theta + self.phase;
+        if self.third {
+            self.m_a * (x.cos() + THIRD * (3.0 * x).cos())
+        } else {
+            self.m_a * x.cos()
+        }
+    }
+
+    /// The reference's slope dr/dtheta.
+    fn reference_slope(&self, theta: f64) -> f64 {
+        let x = theta + self.phase;
+        if self.third {
+            -self.m_a * (x.sin() + 3.0 * THIRD * (3.0 * x).sin())
+        } else {
+            -self.m_a * x.sin()
+        }
+    }
+
+    /// The reference's curvature d2r/dtheta2, of the third-harmonic reference only.
+    fn reference_curvature(&self, theta: f64) -> f64 {
+        let x = theta + self.phase;
+        -self.m_a * (x.cos() + 9.0 * THIRD * (3.0 * x).cos())
+    }
+
     /// r - c within half-period j.
     fn diff(&self, j: u64, theta: f64) -> f64 {
         let u = (theta - self.bound(j)) / self.half;
@@ -120,74 +162,80 @@ impl Comparator {
         } else {
             1.0 - 2.0 * u
         };
-        self.m_a * (theta + self.phase).cos() - carrier
+        self.reference(theta) - carrier
     }
 
     fn diff_slope(&self, j: u64, theta: f64) -> f64 {
-        -self.m_a * (theta + self.phase).sin() - self.carrier_slope(j)
+        self.reference_slope(theta) - self.carrier_slope(j)
     }
 
-    /// Turning points of r - c strictly inside half-period j, in order: where
-    /// -m_a sin(theta + delta) equals the carrier slope.
+    /// Turning points of r - c strictly inside half-period j, in order.
     fn turning_points(&self, j: u64) -> Vec<f64> {
-        let (a, b) = (self.bound(j), self.bound(j + 1));
-        let s = -self.carrier_slope(j) / self.m_a;
+        if self.third {
+            self.bracketed_turning_points(j)
+        } else {
+            self.sine_turning_points(j)
+        }
+    }
+
+    /// The angles in (a, b) where x = theta + delta is congruent to one of `bases`
+    /// modulo `turn`, in order.
+    fn angles_in(&self, a: f64, b: f64, bases: &[f64], turn: f64) -> Vec<f64> {
         let mut out = Vec::new();
-        if s.abs() < 1.0 {
-            let alpha = s.asin();
-            for base in [alpha - self.phase, PI - alpha - self.phase] {
-                let mut t = base + 2.0 * PI * ((a - base) / (2.0 * PI)).ceil();
-                while t < b {
-                    if t > a {
-                        out.push(t);
-                    }
-                    t += 2.0 * PI;
+        for &x0 in bases {
+            let base = x0 - self.phase;
+            let mut t = base + turn * ((a - base) / turn).ceil();
+            while t < b {
+                if t > a {
+                    out.push(t);
                 }
+                t += turn;
             }
         }
         out.sort_by(f64::total_cmp);
         out
     }
 
-    /// The root of r - c in [lo, hi] of half-period j, where r - c is monotone and
-    /// changes sign (in the sense of `> 0`). Newton steps from the chord, falling back
-    /// to bisection whenever a step would leave the bracket or does not at least halve
-    /// the previous one, so the step count stays bounded even where Newton would stall
-    /// (a safeguarded Newton iteration, a standard root-finding technique).
-    fn crossing(&self, j: u64, mut lo: f64, mut hi: f64) -> f64 {
-        let (f_lo, f_hi) = (self.diff(j, lo), self.diff(j, hi));
-        let lo_up = f_lo > 0.0;
-        // The chord is the exact crossing if the reference were straight.
-        let mut x = lo + (hi - lo) * (f_lo / (f_lo - f_hi)).clamp(0.0, 1.0);
-        let mut last_step = hi - lo;
-        for _ in 0..200 {
-            let f = self.diff(j, x);
-            if f == 0.0 {
-                return x;
-            }
-            if (f > 0.0) == lo_up {
-                lo = x;
-            } else {
-                hi = x;
-            }
-            let step = f / self.diff_slope(j, x);
-            if step.abs() <= ANGLE_TOLERANCE {
-                return (x - step).clamp(lo, hi);
-            }
-            let newton = x - step;
-            if newton > lo && newton < hi && step.abs() <= 0.5 * last_step {
-                last_step = step.abs();
-                x = newton;
-            } else {
-                let mid = 0.5 * (lo + hi);
-                if mid <= lo || mid >= hi || hi - lo <= ANGLE_TOLERANCE {
-                    return mid;
-                }
-                last_step = 0.5 * (hi - lo);
-                x = mid;
+    /// Turning points of r - c for the third-harmonic reference (see the module text):
+    /// the interval is cut at the zeros of r'', x = pi/2 and x = +-arccos(sqrt(11/12))
+    /// modulo pi; on each piece r' - c' is monotone and changes sign at most once.
+    fn bracketed_turning_points(&self, j: u64) -> Vec<f64> {
+        let (a, b) = (self.bound(j), self.bound(j + 1));
+        let alpha = (11.0f64 / 12.0).sqrt().acos();
+        let mut cuts = vec![a];
+        cuts.extend(self.angles_in(a, b, &[FRAC_PI_2, alpha, PI - alpha], PI));
+        cuts.push(b);
+        let slope = |t: f64| self.diff_slope(j, t);
+        let mut out = Vec::new();
+        for w in cuts.windows(2) {
+            let (lo, hi) = (w[0], w[1]);
+            let (s_lo, s_hi) = (slope(lo), slope(hi));
+            if s_lo == 0.0 && lo > a {
+                out.push(lo);
+            } else if (s_lo > 0.0 && s_hi < 0.0) || (s_lo < 0.0 && s_hi > 0.0) {
+                out.push(root(slope, |t| self.reference_curvature(t), lo, hi));
             }
         }
-        x
+        out
+    }
+
+    /// Turning points of r - c for the sinusoidal reference, in closed form: where
+    /// -m_a sin(theta + delta) equals the carrier slope.
+    fn sine_turning_points(&self, j: u64) -> Vec<f64> {
+        let (a, b) = (self.bound(j), self.bound(j + 1));
+        let s = -self.carrier_slope(j) / self.m_a;
+        if s.abs() < 1.0 {
+            let alpha = s.asin();
+            self.angles_in(a, b, &[alpha, PI - alpha], 2.0 * PI)
+        } else {
+            Vec::new()
+        }
+    }
+
+    /// The root of r - c in [lo, hi] of half-period j, where r - c is monotone and
+    /// changes sign (in the sense of `> 0`).
+    fn crossing(&self, j: u64, lo: f64, hi: f64) -> f64 {
+        root(|t| self.diff(j, t), |t| self.diff_slope(j, t), lo, hi)
     }
 
     /// The leg's switching function over `halves` carrier half-periods: +1 while the
@@ -218,6 +266,47 @@ impl Comparator {
     }
 }
 
+/// The root of `f` in [lo, hi], where `f` is monotone and changes sign (in the sense of
+/// `> 0`), with `df` its derivative. Newton steps from the chord, falling back to
+/// bisection whenever a step would leave the bracket or does not at least halve the
+/// previous one, so the step count stays bounded even where Newton would stall (a
+/// safeguarded Newton iteration, a standard root-finding technique).
+fn root(f: impl Fn(f64) -> f64, df: impl Fn(f64) -> f64, mut lo: f64, mut hi: f64) -> f64 {
+    let (f_lo, f_hi) = (f(lo), f(hi));
+    let lo_up = f_lo > 0.0;
+    // The chord is the exact root if f were straight.
+    let mut x = lo + (hi - lo) * (f_lo / (f_lo - f_hi)).clamp(0.0, 1.0);
+    let mut last_step = hi - lo;
+    for _ in 0..200 {
+        let fx = f(x);
+        if fx == 0.0 {
+            return x;
+        }
+        if (fx > 0.0) == lo_up {
+            lo = x;
+        } else {
+            hi = x;
+        }
+        let step = fx / df(x);
+        if step.abs() <= ANGLE_TOLERANCE {
+            return (x - step).clamp(lo, hi);
+        }
+        let newton = x - step;
+        if newton > lo && newton < hi && step.abs() <= 0.5 * last_step {
+            last_step = step.abs();
+            x = newton;
+        } else {
+            let mid = 0.5 * (lo + hi);
+            if mid <= lo || mid >= hi || hi - lo <= ANGLE_TOLERANCE {
+                return mid;
+            }
+            last_step = 0.5 * (hi - lo);
+            x = mid;
+        }
+    }
+    x
+}
+
 /// The window (p carrier periods in q fundamental periods) and the checked inputs.
 fn setup(pwm: &Pwm) -> Result<(u64, u32), SpectrumError> {
     check(pwm, MIN_CARRIER_RATIO)?;
@@ -229,6 +318,7 @@ fn leg_waveform(pwm: &Pwm, leg: Leg, (p, q): (u64, u32)) -> Waveform {
         m_a: pwm.m_a,
         phase: 2.0 * PI * leg.num as f64 / leg.den as f64,
         half: 2.0 * PI * f64::from(q) / (2 * p) as f64,
+        third: pwm.modulation.third_harmonic(),
     };
     let mut w = comparator.waveform(2 * p, q);
     if leg.inverted {
@@ -477,13 +567,15 @@ mod tests {
         // Bipolar: leg b is the complement, output 2 v_a; unipolar: v_a - v_b with b on
         // the inverted reference; three-phase: v_ab = v_a - v_b, and with m_f a multiple
         // of 3 each leg is leg a delayed by a third of a period (b) or advanced (c),
-        // since the carrier then repeats after a third.
+        // since the carrier then repeats after a third; so too with third-harmonic
+        // injection, whose third harmonic repeats after a third as well.
         let m_f = 15.0;
         let third = 2.0 * PI / 3.0;
         let cases = [
             Modulation::FullBridgeBipolar,
             Modulation::FullBridgeUnipolar,
             Modulation::ThreePhase,
+            Modulation::ThreePhaseThirdHarmonic,
         ];
         for modulation in cases {
             let p = pwm(modulation, 0.85, m_f);
@@ -497,7 +589,7 @@ mod tests {
                 assert_eq!(out.level_at(t), a - b, "{modulation:?} at {t}");
                 match modulation {
                     Modulation::FullBridgeBipolar => assert_eq!(b, -a),
-                    Modulation::ThreePhase => {
+                    Modulation::ThreePhase | Modulation::ThreePhaseThirdHarmonic => {
                         let wrap = |x: f64| x.rem_euclid(out.window());
                         // Skip the instants within 1e-9 of an edge of leg a.
                         let near =

@@ -94,9 +94,13 @@ fn parseval_the_spectrum_carries_the_mean_square_of_the_waveform() {
     // K ~ 4e6. So the sum goes to K = N/16 with N = 2^18 per period, and T_K is added;
     // what is left is the cross terms of the jumps (which average out only as 1/K^2)
     // and aliasing, a few 1e-6. Asserted: the deficit is T_K within 2 %, and the
-    // balance within 1e-5.
+    // balance within 1e-5. Third-harmonic injection is included: its waveform has
+    // the same two-level legs, so the same bounds hold.
     let spp = 1 << 18;
-    for modulation in BRIDGES {
+    for modulation in BRIDGES
+        .into_iter()
+        .chain([Modulation::ThreePhaseThirdHarmonic])
+    {
         for (m_a, m_f) in [(0.6, 9.0), (0.9, 39.0), (1.3, 15.0), (0.8, 10.5)] {
             let p = pwm(modulation, m_a, m_f);
             let w = edges(&p).unwrap();
@@ -310,4 +314,369 @@ fn carrier_groups_of_a_small_carrier_ratio_overlap_and_are_added_as_phasors() {
             );
         }
     }
+}
+
+// Third-harmonic injection (`Modulation::ThreePhaseThirdHarmonic`): numerical spectrum
+// only, checked against the properties Houldsworth and Grant (1984; from memory) give
+// it, and against the double Fourier integral of Black (1953) evaluated by quadrature
+// (`thi_series`) instead of in Bessel functions.
+
+const THI: Modulation = Modulation::ThreePhaseThirdHarmonic;
+
+/// The third-harmonic reference written independently of `numerical`: with
+/// cos 3x = 4 cos^3 x - 3 cos x (trigonometric identity), cos x - cos(3x)/6 is
+/// (3/2) c - (2/3) c^3 in c = cos x.
+fn thi_reference(m_a: f64, x: f64) -> f64 {
+    let c = x.cos();
+    m_a * (1.5 * c - 2.0 / 3.0 * c.powi(3))
+}
+
+/// The carrier written independently of `Comparator`: a triangle between -1 and +1 with
+/// its minimum at every whole carrier period.
+fn carrier(m_f: f64, theta: f64) -> f64 {
+    let u = m_f * theta / (2.0 * PI);
+    -1.0 + 4.0 * (u - u.round()).abs()
+}
+
+/// The phasor 2 c_k of order k of a waveform, c_k = (1/W) int v e^(-j k theta) dtheta
+/// integrated exactly between its edges.
+fn fourier(w: &Waveform, k: f64) -> Complex64 {
+    let mut starts = vec![(0.0, w.initial)];
+    starts.extend(w.edges.iter().map(|e| (e.angle, e.level)));
+    let mut c = Complex64::new(0.0, 0.0);
+    for (i, &(a, v)) in starts.iter().enumerate() {
+        let b = starts.get(i + 1).map_or(w.window(), |s| s.0);
+        let e = |t: f64| Complex64::from_polar(1.0, -k * t);
+        c += v * (e(b) - e(a)) / Complex64::new(0.0, -k);
+    }
+    2.0 * c / w.window()
+}
+
+/// The v_ab spectrum of third-harmonic injection at integer m_f, from the double Fourier
+/// integral of a naturally sampled leg (H. S. Black, Modulation Theory, 1953; Holmes and
+/// Lipo 2003, section 3.3 for its setting up; from memory): with x = m_f theta and
+/// y = theta the leg is +1 for |x| < a(y) = (pi/2)(1 + r(y)), so the term
+/// cos(m x + n y) has the phasor (2 / (pi^2 m)) int_(-pi)^(pi) sin(m a(y)) e^(-j n y) dy
+/// for m >= 1, and the baseband is r(y) itself. The y integral is taken by the
+/// trapezoidal rule, exact to rounding here: the integrand is smooth and periodic and
+/// its content beyond |n| ~ 60 is below 1e-15. Leg b is leg a with y + delta,
+/// delta = -2 pi / 3, so v_ab takes the factor 1 - e^(-j 2 pi n / 3). Carrier groups
+/// m <= 12, sidebands |n| <= 60: entry h is order h.
+fn thi_series(m_a: f64, m_f: u32, max_order: u32) -> Vec<Complex64> {
+    const POINTS: usize = 2048;
+    let mut out = vec![Complex64::new(0.0, 0.0); max_order as usize + 1];
+    let ys: Vec<f64> = (0..POINTS)
+        .map(|k| 2.0 * PI * k as f64 / POINTS as f64)
+        .collect();
+    let factor = |n: i64| 1.0 - Complex64::from_polar(1.0, -2.0 * PI * n as f64 / 3.0);
+    let mut add = |order: i64, p: Complex64| {
+        let (h, p) = if order < 0 {
+            (-order, p.conj())
+        } else {
+            (order, p)
+        };
+        if let Some(slot) = out.get_mut(h as usize) {
+            *slot += p;
+        }
+    };
+    // Baseband: m_a cos y - (m_a / 6) cos 3y; the second term has factor 0.
+    add(1, m_a * factor(1));
+    add(3, -m_a / 6.0 * factor(3));
+    for m in 1..=12i64 {
+        let s: Vec<f64> = ys
+            .iter()
+            .map(|&y| (m as f64 * PI / 2.0 * (1.0 + thi_reference(m_a, y))).sin())
+            .collect();
+        for n in -60..=60i64 {
+            let order = m * i64::from(m_f) + n;
+            if order.unsigned_abs() > u64::from(max_order) {
+                continue;
+            }
+            let integral: Complex64 = ys
+                .iter()
+                .zip(&s)
+                .map(|(&y, &s)| s * Complex64::from_polar(1.0, -(n as f64) * y))
+                .sum::<Complex64>()
+                * (2.0 * PI / POINTS as f64);
+            add(order, 2.0 / (PI * PI * m as f64) * integral * factor(n));
+        }
+    }
+    out
+}
+
+#[test]
+fn third_harmonic_injection_linear_limit_is_where_the_reference_peaks_at_one() {
+    // The flattened reference peaks at (sqrt(3)/2) m_a, so linear modulation reaches
+    // m_a = 2/sqrt(3) (Houldsworth and Grant 1984; from memory); a sinusoid peaks at
+    // m_a. Peak found on a grid of 1e6 points, within 1e-9.
+    let peak = |m_a: f64| {
+        (0..1_000_000)
+            .map(|k| thi_reference(m_a, 2.0 * PI * k as f64 / 1e6).abs())
+            .fold(0.0, f64::max)
+    };
+    let limit = THI.linear_limit();
+    assert!((limit - 1.154_700_538_379_251_5).abs() < 1e-15, "{limit}");
+    assert!((peak(limit) - 1.0).abs() < 1e-9, "{}", peak(limit));
+    for modulation in BRIDGES {
+        assert_eq!(modulation.linear_limit(), 1.0, "{modulation:?}");
+    }
+    assert_eq!(THI.legs(), 3);
+}
+
+#[test]
+fn third_harmonic_injection_crossings_are_where_reference_meets_carrier() {
+    // Natural sampling (Holmes and Lipo 2003, section 3.3; from memory): each edge of
+    // each leg has r - c of opposite signs 1e-12 of a period either side, in the sense
+    // of its new level, with r from `thi_reference`. And the edges are all of them: a
+    // scan of r - c at 2^21 points per window finds as many sign changes. Cases with
+    // small m_f and large m_a have turning points of r - c inside carrier half-periods;
+    // in (1.4, 3) and (3, 7) some half-periods hold two crossings (found by a finer
+    // scan while writing this test), which only the turning points separate.
+    let eps = 2.0 * PI * 1e-12;
+    let cases = [
+        (0.9, 21.0),
+        (THI.linear_limit(), 15.0),
+        (0.5, 10.5),
+        (1.6, 3.0),
+        (1.4, 3.0),
+        (3.0, 7.0),
+        (1.1, 1.0),
+        (3.0, 2.0),
+        (40.0, 5.0),
+    ];
+    for (m_a, m_f) in cases {
+        let p = pwm(THI, m_a, m_f);
+        for leg in 0..3 {
+            let delta = -2.0 * PI * [0.0, 1.0 / 3.0, -1.0 / 3.0][leg];
+            let w = leg_edges(&p, leg).unwrap();
+            let r_minus_c = |t: f64| thi_reference(m_a, t + delta) - carrier(m_f, t);
+            let case = format!("m_a {m_a}, m_f {m_f}, leg {leg}");
+            let mut level = w.initial;
+            for e in &w.edges {
+                assert_eq!(e.level, -level, "{case}: levels alternate");
+                level = e.level;
+                let (before, after) = (r_minus_c(e.angle - eps), r_minus_c(e.angle + eps));
+                assert!(
+                    before * after < 0.0 && (after > 0.0) == (e.level > 0.0),
+                    "{case}: edge at {}: {before:e} {after:e}",
+                    e.angle
+                );
+            }
+            let n = 1usize << 21;
+            let mut changes = 0;
+            let mut last = r_minus_c(0.0) > 0.0;
+            assert_eq!(last, w.initial > 0.0, "{case}: initial level");
+            for k in 1..=n {
+                let now = r_minus_c(w.window() * (k as f64 + 0.5) / n as f64) > 0.0;
+                changes += usize::from(now != last);
+                last = now;
+            }
+            assert_eq!(w.edges.len(), changes, "{case}");
+            if m_a <= THI.linear_limit() && m_f >= 3.0 {
+                let q = f64::from(w.periods);
+                assert_eq!(w.edges.len() as f64, 2.0 * m_f * q, "{case}: linear");
+            }
+        }
+    }
+}
+
+#[test]
+fn third_harmonic_injection_matches_its_double_fourier_integral() {
+    // The FFT of the exact crossings against Black's double Fourier integral by
+    // quadrature (`thi_series`), as phasors, every order to 5 m_f; the same 1e-5 as
+    // the Bessel series of the sinusoidal bridges (aliasing of the box average).
+    for m_f in [9u32, 15, 20, 21, 39] {
+        for m_a in [0.3, 0.7, 1.0, THI.linear_limit()] {
+            let p = pwm(THI, m_a, f64::from(m_f));
+            let n = numerical_lines(&p, f64::from(5 * m_f), DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+            let want = thi_series(m_a, m_f, 5 * m_f);
+            for l in &n {
+                let d = (phasor(l) - want[l.order as usize]).norm();
+                assert!(
+                    d < 1e-5,
+                    "m_f {m_f}, m_a {m_a}: order {}: {} vs {}",
+                    l.order,
+                    phasor(l),
+                    want[l.order as usize]
+                );
+            }
+        }
+    }
+}
+
+#[test]
+fn third_harmonic_injection_fundamental_is_sqrt3_m_a_up_to_its_linear_limit() {
+    // The injected third harmonic cancels line to line, and the baseband of natural
+    // sampling is the reference itself while |r| <= 1, so v_ab has sqrt(3) m_a at
+    // +30 degrees up to m_a = 2/sqrt(3) (Houldsworth and Grant 1984; Mohan et al.,
+    // section 8-4, for the sqrt(3) and 30 degrees; from memory). Within 1e-6: the
+    // order-1 line also collects far sidebands such as m_f - 20 at m_f = 21 (1e-8
+    // here; 2e-5 at m_f = 15 and 7e-3 at m_f = 9, which the double Fourier test covers).
+    // Plain sine-triangle at m_a = 1.1 already falls short, pulses dropped: by 0.062
+    // for large m_f by the clipped-reference model of the `numerical` tests; asserted
+    // more than 0.01.
+    for m_f in [21.0, 39.0, 20.0] {
+        for m_a in [0.2, 0.5, 0.8, 1.0, 1.1, THI.linear_limit()] {
+            let l = numerical_lines(&pwm(THI, m_a, m_f), 1.0, DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+            let f = l[1];
+            assert_eq!(f.order, 1.0);
+            assert!(
+                (f.amplitude - 3f64.sqrt() * m_a).abs() < 1e-6,
+                "m_f {m_f}, m_a {m_a}: {}",
+                f.amplitude
+            );
+            assert!((f.phase - PI / 6.0).abs() < 1e-6, "m_f {m_f}, m_a {m_a}");
+        }
+        let plain =
+            numerical_harmonics(&pwm(Modulation::ThreePhase, 1.1, m_f), 1, 1 << 12).unwrap();
+        assert!(
+            plain[1].1 < 3f64.sqrt() * 1.1 - 0.01,
+            "m_f {m_f}: {plain:?}"
+        );
+    }
+}
+
+#[test]
+fn third_harmonic_injection_overmodulates_above_its_linear_limit() {
+    // Above m_a = 2/sqrt(3) the reference peaks pass the carrier and pulses drop. For
+    // large m_f the carrier-period average of each leg is the reference clipped at +-1
+    // (as for the sinusoid, `numerical` tests), so the v_ab fundamental is sqrt(3) times
+    // the fundamental of the clipped reference, here by the trapezoidal rule on 2^20
+    // points (error below 1e-9 for the kinks of the clipping). At m_f = 201 within
+    // 2e-4, and below sqrt(3) m_a by more than 1e-3.
+    let m_f = 201.0;
+    for m_a in [1.17, 1.2, 1.3, 1.6] {
+        let n = 1usize << 20;
+        let clipped: f64 = (0..n)
+            .map(|k| {
+                let y = 2.0 * PI * k as f64 / n as f64;
+                thi_reference(m_a, y).clamp(-1.0, 1.0) * y.cos()
+            })
+            .sum::<f64>()
+            * 2.0
+            / n as f64;
+        let want = 3f64.sqrt() * clipped;
+        let h = numerical_harmonics(&pwm(THI, m_a, m_f), 1, DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+        assert!(
+            (h[1].1 - want).abs() < 2e-4,
+            "m_a {m_a}: {} vs {want}",
+            h[1].1
+        );
+        assert!(
+            h[1].1 < 3f64.sqrt() * m_a - 1e-3,
+            "m_a {m_a}: {} vs {}",
+            h[1].1,
+            3f64.sqrt() * m_a
+        );
+    }
+    // At the limit itself nothing is lost yet.
+    let m_a = THI.linear_limit();
+    let h = numerical_harmonics(&pwm(THI, m_a, m_f), 1, DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+    assert!((h[1].1 - 3f64.sqrt() * m_a).abs() < 1e-5, "{}", h[1].1);
+}
+
+#[test]
+fn third_harmonic_injection_v_ab_has_no_triplens() {
+    // With m_f a multiple of 3 each leg is leg a shifted by a third of a period, so the
+    // triplens, the injected third harmonic among them, are the same in every leg and
+    // cancel in v_ab (Houldsworth and Grant 1984; Mohan et al., section 8-4; from
+    // memory). Zero to the accuracy of the FFT, 5e-6, where the other lines are not.
+    for m_f in [9u32, 15, 21, 39] {
+        for m_a in [0.5, 1.0, THI.linear_limit(), 1.4] {
+            let p = pwm(THI, m_a, f64::from(m_f));
+            let n = numerical_harmonics(&p, 5 * m_f, DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+            for h in (0..=5 * m_f as usize).step_by(3) {
+                assert!(n[h].1 < 5e-6, "m_f {m_f}, m_a {m_a}: {h}: {:e}", n[h].1);
+            }
+            assert!(n[(m_f + 2) as usize].1 > 0.01, "m_f {m_f}, m_a {m_a}");
+        }
+    }
+}
+
+#[test]
+fn third_harmonic_injection_is_in_each_leg_and_cancels_in_v_ab() {
+    // Each leg's baseband is its reference (natural sampling, linear range), so each
+    // leg carries m_a / 6 at order 3 with phase pi (the - cos 3x / 6 of the reference),
+    // all three alike (Houldsworth and Grant 1984; from memory); v_ab has none. The leg
+    // lines come from the exact Fourier integral of its edges (`fourier`), within 1e-6
+    // (far sidebands folded onto order 3). Plain sine-triangle legs have no third
+    // harmonic, which shows the injection is really there. m_f = 20 is no multiple of
+    // 3: the legs are then not shifted copies, and the baseband still cancels.
+    for m_f in [21.0, 20.0, 39.0] {
+        for m_a in [0.4, 1.0, THI.linear_limit()] {
+            let p = pwm(THI, m_a, m_f);
+            let want = Complex64::new(-m_a / 6.0, 0.0);
+            for leg in 0..3 {
+                let got = fourier(&leg_edges(&p, leg).unwrap(), 3.0);
+                assert!(
+                    (got - want).norm() < 1e-6,
+                    "m_f {m_f}, m_a {m_a}, leg {leg}: {got} vs {want}"
+                );
+                let plain = pwm(Modulation::ThreePhase, m_a.min(1.0), m_f);
+                let none = fourier(&leg_edges(&plain, leg).unwrap(), 3.0);
+                assert!(none.norm() < 1e-6, "plain leg {leg}: {none}");
+            }
+            let v_ab = fourier(&edges(&p).unwrap(), 3.0);
+            assert!(v_ab.norm() < 1e-6, "m_f {m_f}, m_a {m_a}: v_ab {v_ab}");
+        }
+    }
+}
+
+#[test]
+fn third_harmonic_injection_changes_the_carrier_groups() {
+    // At m_a = 1 the two modulations have the same fundamental but not the same
+    // switching lines: the flattened reference moves the pulse edges. The sinusoidal
+    // lines are the Bessel series (Holmes and Lipo 2003, chapter 3; from memory), the
+    // injected ones Black's integral by quadrature (`thi_series`); the numerical
+    // spectrum of each matches its own within 1e-5, and the two differ by more than
+    // 0.01 at the largest lines of the first two carrier groups.
+    let m_f = 21u32;
+    let plain = harmonics(&pwm(Modulation::ThreePhase, 1.0, f64::from(m_f)), 3 * m_f).unwrap();
+    let p = pwm(THI, 1.0, f64::from(m_f));
+    let thi = numerical_harmonics(&p, 3 * m_f, DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+    let series = thi_series(1.0, m_f, 3 * m_f);
+    let mut total = 0.0;
+    for h in [m_f - 2, m_f + 2, m_f - 4, m_f + 4, 2 * m_f - 1, 2 * m_f + 1] {
+        let (a, b) = (plain[h as usize].1, thi[h as usize].1);
+        assert!(
+            (b - series[h as usize].norm()).abs() < 1e-5,
+            "order {h}: {b}"
+        );
+        total += (a - b).abs();
+        assert!((a - b).abs() > 0.01, "order {h}: plain {a}, injected {b}");
+    }
+    assert!(total > 0.1, "{total}");
+    assert!((plain[1].1 - thi[1].1).abs() < 1e-5, "same fundamental");
+}
+
+#[test]
+fn third_harmonic_injection_square_wave_limit_is_six_step() {
+    // Far above its linear limit the reference is positive exactly where cos x is
+    // ((3/2) c - (2/3) c^3 has the sign of c), so each leg becomes the square wave and
+    // v_ab the six-step wave: fundamental (4/pi) sqrt(3), harmonic h at 1/h of it, no
+    // triplens (Mohan et al., section 8-4, square-wave operation; from memory). The
+    // crossings of m_a = 1e4 run through the bracketed turning points.
+    let h = numerical_harmonics(&pwm(THI, 1e4, 15.0), 11, DEFAULT_SAMPLES_PER_PERIOD).unwrap();
+    let six = 4.0 / PI * 3f64.sqrt();
+    for order in [1usize, 5, 7, 11] {
+        assert!(
+            (h[order].1 - six / order as f64).abs() < 1e-6,
+            "{order}: {:?}",
+            h[order]
+        );
+    }
+    for order in [0usize, 2, 3, 4, 6, 9] {
+        assert!(h[order].1 < 1e-6, "{order}: {:?}", h[order]);
+    }
+}
+
+#[test]
+fn the_analytic_series_rejects_third_harmonic_injection() {
+    // The Bessel series holds for sinusoidal references only (`analytic`).
+    let p = pwm(THI, 0.9, 21.0);
+    assert_eq!(components(&p, 100.0), Err(SpectrumError::NoSeries(THI)));
+    assert_eq!(lines(&p, 100.0), Err(SpectrumError::NoSeries(THI)));
+    assert_eq!(harmonics(&p, 100), Err(SpectrumError::NoSeries(THI)));
+    let text = SpectrumError::NoSeries(THI).to_string();
+    assert!(text.contains("numerical spectrum"), "{text}");
 }
