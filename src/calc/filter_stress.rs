@@ -13,7 +13,7 @@ use super::grid_filter::grid_filter_of;
 use super::modulation::short;
 use super::operating_point::load_cases;
 use super::ripple;
-use super::switching::{phase_factor, PointSpectrum};
+use super::switching::{self, phase_factor, PointSpectrum};
 use crate::record::{Design, FilterKind, Topology};
 use crate::sheet::{Relation, Sheet, Source};
 use crate::units::Unit;
@@ -49,9 +49,30 @@ pub fn evaluate(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
     let f_sw = s.value("bridge.f_sw");
     let mut worst = (-1.0, String::new());
     for p in spectra {
-        let Ok(env) = ripple::ripple_envelope(&p.pwm) else {
-            continue;
+        let (pwm, rounded) = switching::periodic(&p.pwm);
+        let env = match ripple::ripple_envelope(&pwm) {
+            Ok(env) => env,
+            Err(e) => {
+                s.warn(
+                    "ripple.i_pp_max",
+                    &format!(
+                        "the ripple current was not evaluated at the {}: {e}",
+                        p.label
+                    ),
+                );
+                continue;
+            }
         };
+        if rounded && p.key == "nominal" {
+            s.warn(
+                "modulation.m_f",
+                &format!(
+                    "the carrier does not repeat within {} fundamental periods; the ripple and the waveform plots use the nearest integer carrier ratio {}",
+                    crate::calc::spectrum::MAX_PERIODS,
+                    pwm.m_f
+                ),
+            );
+        }
         let tag = short(p.key);
         let k_id = format!("ripple.k_n.{}", p.key);
         let m_id = format!("modulation.m_a.{}", p.key);

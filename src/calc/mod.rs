@@ -6,6 +6,7 @@
 pub mod filter;
 pub mod filter_stress;
 pub mod grid_filter;
+pub mod lcl_design;
 pub mod modulation;
 pub mod operating_point;
 pub mod output_quality;

@@ -151,6 +151,9 @@ fn output_voltage(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
             let id = format!("quality.v_thd.{}.{}", p.key, case.key);
             let h_id = format!("spectrum.switch.h1.{}", p.key);
             let h_sym = s.get(&h_id).map(|q| q.symbol.clone()).unwrap_or_default();
+            let (h_text, mut h_inputs) = lc_transfer_text(s, case);
+            h_inputs.push(h_id.clone());
+            let h_refs: Vec<&str> = h_inputs.iter().map(String::as_str).collect();
             s.derive(
                 &id,
                 &format!("Output voltage THD, {}, {}", p.label, case.label),
@@ -162,9 +165,9 @@ fn output_voltage(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
                 Unit::Percent,
             )
             .formula(&format!(
-                "sqrt(sum_(h != 1) (abs(H(j h omega_1)) V_(\"sw\",h))^2) / (abs(H(j omega_1)) {h_sym})"
+                "sqrt(sum_(h != 1) (abs({h_text}) V_(\"sw\",h))^2) / (abs(H(j omega_1)) {h_sym})"
             ))
-            .inputs(&[&h_id])
+            .inputs(&h_refs)
             .source(Source::reference(
                 "IEC 61000-2-2",
                 "THD as the rms of the harmonics over the rms of the fundamental (from memory); each switch-node line through the filter with this load",
@@ -292,6 +295,49 @@ fn output_voltage(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
     );
 }
 
+/// The symbol of a sheet quantity (empty if absent).
+fn sym(s: &Sheet, id: &str) -> String {
+    s.get(id).map(|q| q.symbol.clone()).unwrap_or_default()
+}
+
+/// The grid filter's admittance written with its components, so the trace names them:
+/// `underline(Y)_g (j h omega_1; L_1, C_f, R_d, L_2')`, and the ids of those inputs.
+fn grid_admittance_text(s: &Sheet) -> (String, Vec<&'static str>) {
+    let mut ids: Vec<&'static str> = vec!["output.omega1", "filter.inductance"];
+    for id in ["filter.capacitance", "filter.damping_resistance"] {
+        if s.get(id).is_some() {
+            ids.push(id);
+        }
+    }
+    ids.push(if s.get("filter.l2_total").is_some() {
+        "filter.l2_total"
+    } else {
+        "grid.inductance"
+    });
+    let names: Vec<String> = ids[1..].iter().map(|i| sym(s, i)).collect();
+    (
+        format!("underline(Y)_g (j h omega_1; {})", names.join(", ")),
+        ids,
+    )
+}
+
+/// The LC filter's transfer function with its load written out, and the inputs.
+fn lc_transfer_text(s: &Sheet, case: &LoadCase) -> (String, Vec<String>) {
+    let (r, x) = super::operating_point::load_ids(case.key);
+    let mut ids = vec![
+        "output.omega1".to_string(),
+        "filter.inductance".to_string(),
+        "filter.capacitance".to_string(),
+    ];
+    for id in [r, x] {
+        if s.get(&id).is_some() {
+            ids.push(id);
+        }
+    }
+    let names: Vec<String> = ids[1..].iter().map(|i| sym(s, i)).collect();
+    (format!("H(j h omega_1; {})", names.join(", ")), ids)
+}
+
 fn table_source(c: &standards::Citation, what: &str) -> Source {
     Source::reference(c.document, &format!("{}, {what} ({})", c.table, c.note))
 }
@@ -340,18 +386,36 @@ fn grid_current(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
     // Worst use of an individual limit: (use, ratio, order, limit, point).
     let mut worst_h: Option<(f64, f64, u32, standards::HarmonicLimit, usize)> = None;
     let mut above_table = (0.0, 0.0);
+    let (y_text, y_inputs) = grid_admittance_text(s);
+    let trd_inputs = |key: &str, y: &[&'static str]| -> Vec<String> {
+        let mut v: Vec<String> = y.iter().map(|i| i.to_string()).collect();
+        v.push(format!("modulation.m_a.{key}"));
+        v.push("modulation.m_f".into());
+        v.push("output.i_peak".into());
+        v
+    };
     for (pi, p) in spectra.iter().enumerate() {
         let lines = grid_current_lines(d, s, p);
         let trd = harmonic_rss(&lines) / i_pk;
         let id = format!("quality.i_trd.{}", p.key);
+        let m_sym = sym(s, &format!("modulation.m_a.{}", p.key));
         s.derive(
             &id,
             &format!("Total rated-current distortion, {}", p.label),
             &format!("\"TRD\"_\"{}\"", short(p.key)),
             Unit::Percent,
         )
-        .formula("sqrt(sum_(h != 1) I_(g,h)^2) / I_(o,\"pk\")")
-        .inputs(&["output.i_peak"])
+        .formula(&format!(
+            "sqrt(sum_(h != 1) (abs({y}) V_(\"sw\",h)({m_sym}, m_f){k})^2) / I_(o,\"pk\")",
+            y = y_text,
+            k = if phase_factor(d) < 1.0 { " / sqrt(3)" } else { "" },
+        ))
+        .inputs(
+            &trd_inputs(p.key, &y_inputs)
+                .iter()
+                .map(String::as_str)
+                .collect::<Vec<_>>(),
+        )
         .source(table_source(
             trd_cite,
             "total rated-current distortion; every computed line counts, interharmonics and orders above 50 included",

@@ -7,9 +7,11 @@
 //! - [`typeset`]: the in-memory typst world and PDF export.
 
 pub mod figures;
+pub mod findings;
 pub mod markup;
 pub mod plot;
 pub mod sections;
+pub mod spectrum_figures;
 pub mod spectrum_plot;
 pub mod template;
 pub mod typeset;

@@ -240,28 +240,109 @@ impl Comparator {
 
     /// The leg's switching function over `halves` carrier half-periods: +1 while the
     /// reference is above the carrier.
+    ///
+    /// Each half-period is cut at its turning points and at the roots found between
+    /// them, and every stretch between two consecutive cuts takes the sign of r - c at
+    /// its midpoint, where r - c is well away from zero. Deciding levels by toggling at
+    /// the roots instead goes wrong where r - c is zero at a cut: where the reference
+    /// reaches +-1 on a carrier corner (m_a = 1 with a reference extreme on a carrier
+    /// extreme, or |r| passing 1 where the carrier turns in overmodulation), r - c at
+    /// the half-period boundary rounds to +1e-13 with one half's carrier formula and to
+    /// 0 or below with the next one's, so a change entered in one half was never undone
+    /// in the next, and the leg kept the wrong level up to the next true crossing.
     fn waveform(&self, halves: u64, periods: u32) -> Waveform {
-        let level = |f: f64| if f > 0.0 { 1.0 } else { -1.0 };
-        let mut edges = Vec::new();
+        let mut out = Levels::default();
+        let mut points = Vec::new();
+        let mut cuts = Vec::new();
         for j in 0..halves {
-            let mut points = vec![self.bound(j)];
+            points.clear();
+            points.push(self.bound(j));
             points.extend(self.turning_points(j));
             points.push(self.bound(j + 1));
+            cuts.clear();
+            cuts.push(points[0]);
             for w in points.windows(2) {
                 let (lo, hi) = (w[0], w[1]);
-                let after = level(self.diff(j, hi));
-                if level(self.diff(j, lo)) != after {
-                    edges.push(Edge {
-                        angle: self.crossing(j, lo, hi),
-                        level: after,
-                    });
+                if (self.diff(j, lo) > 0.0) != (self.diff(j, hi) > 0.0) {
+                    cuts.push(self.crossing(j, lo, hi));
+                }
+                cuts.push(hi);
+            }
+            for w in cuts.windows(2) {
+                let (lo, hi) = (w[0], w[1]);
+                // A root on a turning point or a boundary leaves a stretch of zero
+                // width, with no level of its own.
+                if hi > lo {
+                    let level = if self.diff(j, 0.5 * (lo + hi)) > 0.0 {
+                        1.0
+                    } else {
+                        -1.0
+                    };
+                    out.push(lo, level);
                 }
             }
         }
+        out.finish(periods)
+    }
+}
+
+/// Pulses narrower than this (radians of the fundamental) are dropped: a couple of
+/// units in the last place of an angle of the longest window (6.3e-14 at 64 periods),
+/// the width of the spurious pulses that rounding makes where the reference only
+/// touches the carrier. A true pulse this narrow (the reference passing a carrier peak
+/// by less than about 1e-11) carries no measurable volt-seconds.
+const MIN_PULSE: f64 = 2e-13;
+
+/// The level of each stretch in angle order, gathered into a [`Waveform`]: equal
+/// neighbours merge, so each edge is a change, and a pulse narrower than [`MIN_PULSE`]
+/// is taken out again with the edge that opened it.
+#[derive(Default)]
+struct Levels {
+    initial: Option<f64>,
+    edges: Vec<Edge>,
+}
+
+impl Levels {
+    /// The level is `level` from `angle` on.
+    fn push(&mut self, angle: f64, level: f64) {
+        let current = match self.edges.last() {
+            Some(e) => e.level,
+            None => match self.initial {
+                Some(v) => v,
+                None => {
+                    self.initial = Some(level);
+                    return;
+                }
+            },
+        };
+        if level == current {
+            return;
+        }
+        match self.edges.last() {
+            // Two levels only: closing a narrow pulse restores the level before it.
+            Some(e) if angle - e.angle < MIN_PULSE => {
+                self.edges.pop();
+            }
+            Some(_) => self.edges.push(Edge { angle, level }),
+            None if angle < MIN_PULSE => self.initial = Some(level),
+            None => self.edges.push(Edge { angle, level }),
+        }
+    }
+
+    fn finish(mut self, periods: u32) -> Waveform {
+        let window = 2.0 * PI * f64::from(periods);
+        // A change just before the window's end is a pulse too narrow to keep.
+        if self
+            .edges
+            .last()
+            .is_some_and(|e| window - e.angle < MIN_PULSE)
+        {
+            self.edges.pop();
+        }
         Waveform {
             periods,
-            initial: level(self.diff(0, 0.0)),
-            edges,
+            initial: self.initial.unwrap_or(-1.0),
+            edges: self.edges,
         }
     }
 }

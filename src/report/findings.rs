@@ -1,0 +1,83 @@
+//! The `@place findings SUBJECT` paragraphs: the main results of a subject in a few
+//! sentences, worded for the design's connection and filter, so that one template
+//! serves stand-alone and grid-connected designs alike. Every number is a sheet value
+//! shown as the sheet shows it.
+
+use super::sections::{err, value_markup};
+use crate::record::Design;
+use crate::sheet::Sheet;
+
+/// A short paragraph of the main results of a subject, worded for the design's
+/// connection and filter, so that one template serves every kind of design.
+pub fn findings(design: &Design, s: &Sheet, subject: &str) -> Result<String, (String, String)> {
+    let v = |id: &str| s.get(id).map(value_markup);
+    let grid = design.output.grid();
+    let para = match subject {
+        "filter" if grid => match (v("filter.f_res"), v("filter.inductance")) {
+            (Some(fr), Some(l1)) => format!(
+                "The LCL filter has an inverter-side inductance of {l1}, a capacitor of {}, and a grid-side inductance of {}; with the grid's own {} its resonance lies at {fr}.{}",
+                v("filter.capacitance").unwrap_or_default(),
+                v("filter.grid_side_inductance").unwrap_or_default(),
+                v("grid.inductance").unwrap_or_default(),
+                v("filter.damping_resistance").map_or(String::new(), |r| format!(" A damping resistor of {r} in series with the capacitor takes out the resonant peak.")),
+            ),
+            (None, Some(l)) => format!(
+                "The L filter has an inductance of {l}, with the grid's own {} behind the connection point.",
+                v("grid.inductance").unwrap_or_default()
+            ),
+            _ => String::new(),
+        },
+        "filter" => format!(
+            "The filter's resonance lies at {}, with a characteristic impedance of {}. At rated load its damping ratio is {}; at light load it falls to {}.",
+            v("filter.f0").unwrap_or_default(),
+            v("filter.z0").unwrap_or_default(),
+            v("filter.zeta").unwrap_or_default(),
+            v("filter.zeta_light").unwrap_or_default(),
+        ),
+        "spectrum" => match (v("spectrum.switch.thd.nominal"), v("spectrum.switch.h1.nominal")) {
+            (Some(thd), Some(v1)) => format!(
+                "At the DC nominal the switch-node fundamental is {v1} (peak) and the switch-node THD {thd} (weighted THD {}), computed by the {} method.{}",
+                v("spectrum.switch.wthd.nominal").unwrap_or_default(),
+                s.get("spectrum.switch.h1.nominal").map_or("", |q| if q.name.ends_with("analytic method") { "analytic" } else { "numerical" }),
+                v("spectrum.crosscheck.nominal").map_or(String::new(), |e| format!(" The numerical spectrum of the exact waveform agrees with the analytic series to {e} of half the DC voltage.")),
+            ),
+            _ => "No switching spectrum was computed for this design; see the warnings.".to_string(),
+        },
+        "quality" if grid => match v("quality.i_trd_worst") {
+            Some(trd) => format!(
+                "The grid current's total rated-current distortion is at most {trd} over the DC window. {}",
+                match (v("quality.i_h_worst"), s.get("quality.i_h_worst").and_then(|q| q.name.split(": ").nth(1))) {
+                    (Some(h), Some(at)) => format!("The harmonic nearest its individual limit is {h} of rated current ({at})."),
+                    _ => "No integer harmonic below order 50 carries current in the ideal PWM spectrum; the individual limits are met trivially by the analysis, and low-order harmonics from dead time and control must be covered by measurement.".to_string(),
+                }
+            ),
+            None => String::new(),
+        },
+        "quality" => match v("quality.v_thd_worst") {
+            Some(thd) => format!(
+                "The output voltage THD is at most {thd} ({}) against a limit of {}; the largest single line is {} of the fundamental ({}).",
+                s.get("quality.v_thd_worst").and_then(|q| q.name.split(": ").nth(1)).unwrap_or_default(),
+                v("limits.max_voltage_thd").unwrap_or_default(),
+                v("quality.v_h_worst").unwrap_or_default(),
+                s.get("quality.v_h_worst").and_then(|q| q.name.split(": ").nth(1)).unwrap_or_default(),
+            ),
+            None => String::new(),
+        },
+        "ripple" => match v("ripple.i_pp_max") {
+            Some(r) => format!(
+                "The inductor ripple current reaches {r} peak-to-peak, {} of the rated peak current; with it the inductor peaks at {}.{}",
+                v("ripple.fraction").unwrap_or_default(),
+                v("filter.i_l_peak").unwrap_or_default(),
+                v("filter.i_c_rms").map_or(String::new(), |i| format!(" The filter capacitor carries {i} rms.")),
+            ),
+            None => String::new(),
+        },
+        other => {
+            return Err(err(
+                format!("no findings for `{other}`"),
+                "use `@place findings filter`, `spectrum`, `quality` or `ripple`",
+            ))
+        }
+    };
+    Ok(para)
+}
