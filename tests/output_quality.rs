@@ -215,3 +215,96 @@ fn a_carrier_that_does_not_repeat_keeps_its_ripple_check_and_says_what_it_did() 
     let got = odd.value("ripple.i_pp_max");
     assert!((got / want - 1.0).abs() < 1e-3, "{got} vs {want}");
 }
+
+#[test]
+fn single_phase_grid_l_filter_fundamental_and_distortion_by_hand() {
+    // Full bridge into a stiff 230 V grid through 3 mH (plus 0.2 mH of grid): at unity
+    // power factor the switch node must make V_g + j omega L I_g (phasor circuit
+    // theory), and each grid current line is V_sw,h / (h omega_1 (L + L_g)).
+    let text = "bridgebook: 1
+project: { id: T-4, title: Grid L test, revision: A, date: 2026-01-05, prepared_by: Test }
+source:
+  kind: fixed
+  voltage: { min: 380 V, nominal: 400 V, max: 450 V }
+output:
+  voltage: 230 V
+  frequency: 50 Hz
+  power: 4 kW
+  power_factor: 1
+  connection: grid
+  grid_inductance: 0.2 mH
+bridge:
+  topology: full-bridge
+  pwm: unipolar
+  switching_frequency: 20 kHz
+filter:
+  type: l
+  inductance: 3 mH
+";
+    let s = evaluate(text);
+    let (v_pk, i_pk) = (230.0 * 2f64.sqrt(), 4000.0 / 230.0 * 2f64.sqrt());
+    let w = 2.0 * PI * 50.0;
+    let want = (v_pk * v_pk + (w * 3e-3 * i_pk).powi(2)).sqrt();
+    assert!((s.value("modulation.v_sw_pk") / want - 1.0).abs() < 1e-12);
+    assert!((s.value("modulation.m_a.min") - want / 380.0).abs() < 1e-12);
+    // Unipolar PWM: the first lines sit about 2 m_f = 800 (Holmes and Lipo 2003,
+    // chapter 3, from memory); check the TRD of the nominal point from the sheet's own
+    // switch-node lines, which must include the largest contributions.
+    let mut sum = 0.0;
+    for q in &s.quantities {
+        if let Some(rest) = q.id.strip_prefix("spectrum.switch.h") {
+            if let Some(order) = rest.strip_suffix(".nominal") {
+                let h: f64 = order.parse().unwrap();
+                if h != 1.0 {
+                    let i = q.value / (h * w * 3.2e-3);
+                    sum += i * i;
+                }
+            }
+        }
+    }
+    let trd = sum.sqrt() / i_pk;
+    let sheet = s.value("quality.i_trd.nominal");
+    // The sheet sums every line, the listed ones (over 1 % of V_dc/2) carry nearly all.
+    assert!(sheet >= trd && sheet < 1.01 * trd, "{sheet} vs {trd}");
+    assert!(s.checks.iter().any(|c| c.id == "check.quality.trd"));
+}
+
+#[test]
+fn three_phase_standalone_lc_uses_phase_quantities() {
+    // A three-phase stand-alone LC: per phase V_ph = V_LL / sqrt(3), I = S / (sqrt(3)
+    // V_LL), capacitor current V_ph omega C, and m_a = V_sw,ph / (V_dc / 2)
+    // (Mohan et al., 3rd ed., section 8-4, from memory).
+    let text = "bridgebook: 1
+project: { id: T-5, title: Three-phase LC test, revision: A, date: 2026-01-05, prepared_by: Test }
+source:
+  kind: fixed
+  voltage: { min: 680 V, nominal: 720 V, max: 800 V }
+output:
+  voltage: 400 V
+  frequency: 50 Hz
+  power: 10 kW
+  power_factor: 0.9
+  connection: standalone
+bridge:
+  topology: three-phase
+  pwm: sine-triangle
+  switching_frequency: 10.05 kHz
+filter:
+  type: lc
+  inductance: 2 mH
+  capacitance: 20 uF
+";
+    let s = evaluate(text);
+    let v_ph = 400.0 / 3f64.sqrt();
+    assert!((s.value("output.v_phase") - v_ph).abs() < 1e-9);
+    let i = 10e3 / 0.9 / (3f64.sqrt() * 400.0);
+    assert!((s.value("output.i_rms") - i).abs() < 1e-9);
+    let w = 2.0 * PI * 50.0;
+    assert!((s.value("filter.i_c_f1") - v_ph * w * 20e-6).abs() < 1e-9);
+    let v_sw = s.value("modulation.v_sw_pk");
+    assert!((s.value("modulation.m_a.min") - v_sw / 340.0).abs() < 1e-12);
+    // The switch-node spectrum is line-to-line: its fundamental is sqrt(3) times the
+    // phase leg's m_a V_dc / 2.
+    let m = s.value("modulation.m_a.min");
+    assert!((s.value("spectrum.switch.h1.min") - 3f64.sqrt() * m * 340.0).abs() < 1e-6);
+}
