@@ -439,13 +439,26 @@ impl Context<'_> {
         let s = self.sheet;
         let v_dc = format_value(s.value("dc.v_max"), Unit::Volt);
         let v = s.value("output.v_peak");
-        let v_pk = format_value(v, Unit::Volt);
+        let three = self.design.bridge.topology == crate::record::Topology::ThreePhase;
+        let v_pk = if three {
+            format!(
+                "{} line-to-line ({} line-to-neutral)",
+                format_value(3f64.sqrt() * v, Unit::Volt),
+                format_value(v, Unit::Volt)
+            )
+        } else {
+            format_value(v, Unit::Volt)
+        };
         let output = if self.design.output.grid() {
             "the grid connection peaks at"
         } else {
             "the output peaks at"
         };
         let filter_energy = match s.get("filter.capacitance") {
+            Some(c) if three => format!(
+                "the three output filter capacitors together hold up to {} at the output peak (star-connected), and ",
+                format_value(1.5 * c.value * v * v, Unit::Joule)
+            ),
             Some(c) => format!(
                 "the output filter capacitor alone holds up to {} at the output peak, and ",
                 format_value(0.5 * c.value * v * v, Unit::Joule)
