@@ -1,10 +1,11 @@
 //! Times one operating point's switch-node spectrum: the analytic double Fourier series
-//! up to 5.5 m_f, and the numerical spectrum from the exact crossings with FFTs of 2^16
-//! to 2^20 points per period; prints medians beside the targets. Run with
+//! up to 5.5 m_f (natural and symmetric regular sampling), and the numerical spectrum
+//! from the exact crossings with FFTs of 2^16 to 2^20 points per period; prints
+//! medians beside the targets. Run with
 //! `cargo bench --bench spectrum`; figures, not pass/fail.
 
 use bridgebook::calc::ripple::ripple_envelope;
-use bridgebook::calc::spectrum::{lines, numerical_lines, Modulation, Pwm};
+use bridgebook::calc::spectrum::{lines, numerical_lines, regular_lines, Modulation, Pwm};
 use std::time::{Duration, Instant};
 
 const ANALYTIC_TARGET: Duration = Duration::from_millis(1);
@@ -49,10 +50,11 @@ fn main() {
         ),
     ];
     println!(
-        "{:<38} {:>10} {:>7} {:>12} {:>12} {:>12} {:>7} {:>10}",
+        "{:<38} {:>10} {:>7} {:>10} {:>12} {:>12} {:>12} {:>7} {:>10}",
         "operating point",
         "analytic",
         "ratio",
+        "regular",
         "FFT 2^16",
         "FFT 2^18",
         "FFT 2^20",
@@ -73,6 +75,13 @@ fn main() {
                 std::hint::black_box(lines(&pwm, top).expect("linear"));
             }))
         };
+        let regular = if modulation == Modulation::ThreePhaseThirdHarmonic {
+            None
+        } else {
+            Some(time(201, || {
+                std::hint::black_box(regular_lines(&pwm, top).expect("linear"));
+            }))
+        };
         let fft: Vec<Duration> = [16, 18, 20]
             .iter()
             .map(|&b| {
@@ -85,13 +94,14 @@ fn main() {
             std::hint::black_box(ripple_envelope(&pwm).expect("periodic"));
         });
         println!(
-            "{:<38} {:>7} ms {:>7} {:>9.2} ms {:>9.2} ms {:>9.2} ms {:>7.2} {:>7.2} ms",
+            "{:<38} {:>7} ms {:>7} {:>7} ms {:>9.2} ms {:>9.2} ms {:>9.2} ms {:>7.2} {:>7.2} ms",
             name,
             analytic.map_or("-".into(), |a| format!("{:.3}", ms(a))),
             analytic.map_or("-".into(), |a| format!(
                 "{:.2}",
                 ms(a) / ms(ANALYTIC_TARGET)
             )),
+            regular.map_or("-".into(), |a| format!("{:.3}", ms(a))),
             ms(fft[0]),
             ms(fft[1]),
             ms(fft[2]),

@@ -35,12 +35,26 @@ pub fn findings(design: &Design, s: &Sheet, subject: &str) -> Result<String, (St
             v("filter.zeta_light").unwrap_or_default(),
         ),
         "spectrum" => match (v("spectrum.switch.thd.nominal"), v("spectrum.switch.h1.nominal")) {
-            (Some(thd), Some(v1)) => format!(
-                "At the DC nominal the switch-node fundamental is {v1} (peak) and the switch-node THD {thd} (weighted THD {}), computed by the {} method.{}",
-                v("spectrum.switch.wthd.nominal").unwrap_or_default(),
-                s.get("spectrum.switch.h1.nominal").map_or("", |q| if q.name.ends_with("analytic method") { "analytic" } else { "numerical" }),
-                v("spectrum.crosscheck.nominal").map_or(String::new(), |e| format!(" The numerical spectrum of the exact waveform agrees with the analytic series to {e} of half the DC voltage.")),
-            ),
+            (Some(thd), Some(v1)) => {
+                let method = s
+                    .get("spectrum.switch.h1.nominal")
+                    .map_or("", |q| if q.name.ends_with("analytic method") { "analytic" } else { "numerical" });
+                let mut text = format!(
+                    "At the DC nominal the switch-node fundamental is {v1} (peak) and the switch-node THD {thd} (weighted THD {}), computed by the {method} method.",
+                    v("spectrum.switch.wthd.nominal").unwrap_or_default(),
+                );
+                if let Some(e) = v("spectrum.crosscheck.nominal") {
+                    text.push_str(&format!(" The numerical spectrum of the exact waveform agrees with the analytic series to {e} of half the DC voltage."));
+                }
+                if let (Some(thd), Some(low)) = (v("spectrum.regular.thd.nominal"), s.get("spectrum.regular.baseband_max.nominal")) {
+                    let order = low.name.split('(').nth(1).and_then(|t| t.split(')').next()).unwrap_or_default();
+                    text.push_str(&format!(
+                        " A digital modulator that samples the reference once per carrier period (symmetric regular sampling) would give a THD of {thd} and low-order lines natural sampling does not have, the largest {} ({order}).",
+                        value_markup(low),
+                    ));
+                }
+                text
+            }
             _ => "No switching spectrum was computed for this design; see the warnings.".to_string(),
         },
         "quality" if grid => match v("quality.i_trd_worst") {

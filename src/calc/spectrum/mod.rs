@@ -23,6 +23,7 @@
 mod analytic;
 mod bessel;
 mod numerical;
+mod regular;
 
 pub use analytic::{components, harmonics, lines};
 pub use bessel::bessel_j;
@@ -30,6 +31,7 @@ pub use numerical::{
     edges, leg_edges, numerical_harmonics, numerical_lines, Edge, Waveform,
     DEFAULT_SAMPLES_PER_PERIOD,
 };
+pub use regular::{regular_edges, regular_harmonics, regular_leg_edges, regular_lines};
 
 use num_complex::Complex64;
 use std::collections::BTreeMap;
