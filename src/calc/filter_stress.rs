@@ -67,9 +67,9 @@ pub fn evaluate(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
             s.warn(
                 "modulation.m_f",
                 &format!(
-                    "the carrier does not repeat within {} fundamental periods; the ripple and the waveform plots use the nearest integer carrier ratio {}",
+                    "the carrier does not repeat within {} fundamental periods; the ripple and the waveform plots use the nearest carrier ratio that does, m_f = {}",
                     crate::calc::spectrum::MAX_PERIODS,
-                    pwm.m_f
+                    crate::units::format_number(pwm.m_f, 6)
                 ),
             );
         }

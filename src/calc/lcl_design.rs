@@ -82,7 +82,7 @@ pub fn size_lcl(d: &Design, s: &mut Sheet, rule: &LclRule) {
         m_ideal.min(switching::linear_limit(d)),
         s.value("bridge.f_sw") / s.value("output.f1"),
     );
-    let k_n = ripple::ripple_envelope(&pwm).map_or(f64::NAN, |e| e.max);
+    let k_n = ripple::ripple_envelope(&switching::periodic(&pwm).0).map_or(f64::NAN, |e| e.max);
     s.derive(
         "filter.design.ripple_factor",
         "Normalised largest ripple at DC maximum",

@@ -134,22 +134,33 @@ pub fn pwm_of(d: &Design, m_a: f64, m_f: f64) -> Pwm {
     }
 }
 
+/// Most fundamental periods of the window a non-repeating carrier ratio is moved to:
+/// m_f becomes the nearest p / q with q up to this, so that the FFT window stays short.
+pub const APPROXIMATION_PERIODS: u32 = 4;
+
 /// A modulator whose carrier repeats within [`spectrum::MAX_PERIODS`] fundamental
-/// periods, as the time-domain methods (waveform, ripple) need: `pwm` itself, or the
-/// same with m_f rounded to the nearest integer, with `true` to say it was rounded. The
-/// ripple changes with m_f only as 1/m_f^2 (its envelope is that of the carrier period;
-/// `ripple` tests), so the rounding moves it by far less than its accuracy.
+/// periods, as the time-domain methods (waveform, FFT, ripple) need: `pwm` itself, or
+/// the same with m_f moved to the nearest p / q, q <= [`APPROXIMATION_PERIODS`], with
+/// `true` to say it was moved (by at most 1/8). The ripple changes with m_f only as
+/// 1/m_f^2 (`ripple` tests), and a line of carrier group m moves by at most m/8 orders.
 pub fn periodic(pwm: &Pwm) -> (Pwm, bool) {
     if spectrum::edges(pwm).is_ok() {
         return (*pwm, false);
     }
-    (
-        Pwm {
-            m_f: pwm.m_f.round().max(1.0),
-            ..*pwm
-        },
-        true,
-    )
+    let best = (1..=APPROXIMATION_PERIODS)
+        .map(|q| {
+            let q = f64::from(q);
+            let p = (pwm.m_f * q).round().max(1.0);
+            p / q
+        })
+        .fold(pwm.m_f.round().max(1.0), |a, x| {
+            if (x - pwm.m_f).abs() < (a - pwm.m_f).abs() - 1e-12 {
+                x
+            } else {
+                a
+            }
+        });
+    (Pwm { m_f: best, ..*pwm }, true)
 }
 
 /// The highest order computed: the record's, else 5.5 m_f.
@@ -189,10 +200,13 @@ pub fn spectra(d: &Design, s: &Sheet) -> Result<Vec<PointSpectrum>, SpectrumErro
             let m_a = s.value(&format!("modulation.m_a.{key}"));
             let pwm = pwm_of(d, m_a, m_f);
             let top = max_order(d, &pwm);
-            let (method, lines) = if analytic_applies(&pwm) {
-                (Method::Analytic, spectrum::lines(&pwm, top)?)
+            let (method, lines, pwm) = if analytic_applies(&pwm) {
+                (Method::Analytic, spectrum::lines(&pwm, top)?, pwm)
             } else {
-                (Method::Numerical, numerical(&pwm, top)?)
+                // A carrier that never repeats has no finite FFT window: take the
+                // nearest one that does (`periodic`), which the sheet warns about.
+                let (near, _) = periodic(&pwm);
+                (Method::Numerical, numerical(&near, top)?, near)
             };
             Ok(PointSpectrum {
                 key,
@@ -251,6 +265,18 @@ pub fn evaluate(d: &Design, s: &mut Sheet) -> Vec<PointSpectrum> {
             return Vec::new();
         }
     };
+    let m_f = s.value("modulation.m_f");
+    if let Some(p) = spectra.iter().find(|p| (p.pwm.m_f - m_f).abs() > 1e-9) {
+        s.warn(
+            "modulation.m_f",
+            &format!(
+                "the carrier does not repeat within {} fundamental periods, so the numerical spectrum is taken at the nearest carrier ratio that does, m_f = {} instead of {}: each line of carrier group m sits within m/8 orders of where it belongs",
+                spectrum::MAX_PERIODS,
+                format_number(p.pwm.m_f, 6),
+                format_number(m_f, 6)
+            ),
+        );
+    }
     let what = if d.bridge.topology == Topology::ThreePhase {
         "line-to-line "
     } else {
