@@ -921,21 +921,44 @@ fn hint_examples_are_valid_values() {
 }
 
 // bridgebook record format 1 (issue 3): a stand-alone output is evaluated with an LC
-// filter, a grid-connected one with L or LCL; the mismatch points at `filter.type`.
+// filter; an L filter there points at `filter.type`.
 #[test]
-fn grid_connection_with_an_lc_filter() {
-    let text = edit(&ridge(), "connection: standalone", "connection: grid");
+fn standalone_output_with_an_l_filter() {
+    let text = edit(
+        &ridge(),
+        "  type: lc\n  inductance: 1.8 mH\n  capacitance: 10 uF\n",
+        "  type: l\n  inductance: 1.8 mH\n",
+    );
     let r = build(&text);
     r.assert_rejected(1);
     r.assert_error(
-        "a grid-connected output is evaluated with an `l` or `lcl` filter; a capacitor straight on the grid has no inductor to limit its current",
+        "a stand-alone output needs a capacitor across it to hold its voltage; this engine evaluates `lc` there",
         At {
-            line: "type: lc",
-            col: Some("lc"),
+            line: "type: l",
+            col: Some("l"),
             key: "filter.type",
         },
-        "use `type: lcl` (add `grid_side_inductance`), or `type: l`",
+        "use `type: lc`, or `connection: grid`",
     );
+}
+
+// bridgebook record format 1 (issue 3): the LC sizing rule is for stand-alone loads.
+#[test]
+fn grid_connection_with_the_lc_sizing_rule() {
+    let text = edit(
+        &common::demo("alder-hut.yaml"),
+        "connection: standalone",
+        "connection: grid",
+    );
+    let r = build(&text);
+    r.assert_rejected(1);
+    assert!(
+        r.stderr
+            .contains("the LC sizing rule places the resonance against a stand-alone load"),
+        "{}",
+        r.stderr
+    );
+    assert!(r.stderr.contains("filter.design"), "{}", r.stderr);
 }
 
 // bridgebook record format 1 (issue 3): a three-phase bridge takes sine-triangle or

@@ -329,3 +329,39 @@ fn third_harmonic_injection_with_a_carrier_that_does_not_repeat_is_still_evaluat
     );
     assert!((a / b - 1.0).abs() < 0.02, "{a} vs {b}");
 }
+
+#[test]
+fn an_lc_filter_on_a_grid_with_inductance_is_the_lcl_it_makes_with_the_grid() {
+    // An LC whose capacitor sits at the connection point, behind which the grid has
+    // 0.5 mH, is at every switching line the same circuit as an LCL with a 0.5 mH
+    // grid-side inductor on a stiff grid (circuit theory): same resonance, and nearly
+    // the same grid current distortion (only the fundamental's reference point, and so
+    // m_a, differs slightly).
+    let lcl = evaluate(&grid_lcl("10.05 kHz", "1.5 mH", "15 uF", "0.5 mH", "0 ohm"));
+    let lc_text = grid_lcl("10.05 kHz", "1.5 mH", "15 uF", "0.5 mH", "0 ohm")
+        .replace("  type: lcl\n", "  type: lc\n")
+        .replace("inverter_side_inductance", "inductance")
+        .replace(
+            "  grid_side_inductance: 0.5 mH\n  damping_resistance: 0 ohm\n",
+            "",
+        )
+        .replace(
+            "connection: grid\n",
+            "connection: grid\n  grid_inductance: 0.5 mH\n",
+        );
+    let lc = evaluate(&lc_text);
+    let (a, b) = (lc.value("filter.f_res"), lcl.value("filter.f_res"));
+    assert!((a / b - 1.0).abs() < 1e-12, "{a} vs {b}");
+    let (a, b) = (
+        lc.value("quality.i_trd_worst"),
+        lcl.value("quality.i_trd_worst"),
+    );
+    assert!((a / b - 1.0).abs() < 0.05, "{a} vs {b}");
+    // Without any grid inductance the capacitor filters nothing, and the sheet says so.
+    let stiff = evaluate(&lc_text.replace("  grid_inductance: 0.5 mH\n", ""));
+    assert!(stiff
+        .warnings
+        .iter()
+        .any(|w| w.text.contains("sits straight across a stiff grid")));
+    assert!(stiff.get("filter.f_res").is_none());
+}

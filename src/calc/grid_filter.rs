@@ -67,6 +67,16 @@ impl GridFilter {
                     grid: y,
                 }
             }
+            // A capacitor straight across a stiff source carries no switching current:
+            // the switch-node lines drive the grid through L1 alone.
+            Some(_) if self.grid_side() == 0.0 => {
+                let y = 1.0 / z1;
+                Admittances {
+                    inverter: y,
+                    capacitor: Complex64::new(0.0, 0.0),
+                    grid: y,
+                }
+            }
             Some(c) => {
                 let zc = self.r_d + 1.0 / (j * w * c);
                 let z_par = zc * z2 / (zc + z2);
@@ -133,12 +143,16 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         }
     }
     let lcl = d.filter.kind == FilterKind::Lcl;
-    let l1_name = if lcl {
+    let l1_name = if d.filter.kind != FilterKind::L {
         "Inverter-side inductance"
     } else {
         "Filter inductance"
     };
-    let l1_sym = if lcl { "L_1" } else { "L" };
+    let l1_sym = if d.filter.kind == FilterKind::L {
+        "L"
+    } else {
+        "L_1"
+    };
     match &d.filter.sizing {
         FilterSizing::Given(v) => {
             given(
@@ -185,31 +199,54 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         FilterSizing::Rule { .. } => return,
     }
     let gf = grid_filter_of(s);
-    if lcl {
+    if gf.c.is_some() {
+        let (formula, inputs): (&str, &[&str]) = if lcl {
+            (
+                "L_2 + L_g",
+                &["filter.grid_side_inductance", "grid.inductance"],
+            )
+        } else {
+            ("L_g", &["grid.inductance"])
+        };
         s.derive(
             "filter.l2_total",
-            "Grid-side inductance with the grid's",
+            if lcl {
+                "Grid-side inductance with the grid's"
+            } else {
+                "Inductance between capacitor and grid source (the grid's)"
+            },
             "L_2'",
             Unit::Henry,
         )
-        .formula("L_2 + L_g")
-        .inputs(&["filter.grid_side_inductance", "grid.inductance"])
+        .formula(formula)
+        .inputs(inputs)
         .value(gf.grid_side());
-        let f_res = s
-            .derive(
-                "filter.f_res",
-                "LCL resonance frequency",
-                "f_\"res\"",
-                Unit::Hertz,
-            )
-            .formula("1 / (2 pi) sqrt((L_1 + L_2') / (L_1 L_2' C_f))")
-            .inputs(&["filter.inductance", "filter.l2_total", "filter.capacitance"])
-            .source(Source::reference(
-                liserre(),
-                "section II, resonance of the LCL filter",
-            ))
-            .value(gf.resonance().unwrap_or(f64::NAN));
-        resonance_checks(d, s, f_res);
+        if gf.grid_side() > 0.0 {
+            let f_res = s
+                .derive(
+                    "filter.f_res",
+                    if lcl {
+                        "LCL resonance frequency"
+                    } else {
+                        "Resonance of the filter with the grid inductance"
+                    },
+                    "f_\"res\"",
+                    Unit::Hertz,
+                )
+                .formula("1 / (2 pi) sqrt((L_1 + L_2') / (L_1 L_2' C_f))")
+                .inputs(&["filter.inductance", "filter.l2_total", "filter.capacitance"])
+                .source(Source::reference(
+                    liserre(),
+                    "section II, resonance of the LCL filter",
+                ))
+                .value(gf.resonance().unwrap_or(f64::NAN));
+            resonance_checks(d, s, f_res);
+        } else {
+            s.warn(
+                "filter.capacitance",
+                "the filter capacitor sits straight across a stiff grid (no grid-side or grid inductance is stated): it draws only reactive current at f1 and filters nothing; state the grid inductance, or use an `lcl` or `l` filter",
+            );
+        }
     }
     fundamental(d, s, &gf);
 }
@@ -337,6 +374,23 @@ fn fundamental(d: &Design, s: &mut Sheet, gf: &GridFilter) {
     );
     if let Some(c) = gf.c {
         let l2 = gf.l2;
+        let has_l2 = s.get("filter.grid_side_inductance").is_some();
+        let (re_f, re_in, im_f, im_in): (&str, &[&str], &str, &[&str]) = if has_l2 {
+            (
+                "V_(o,\"pk\") - omega_1 L_2 I_(g,\"im\")",
+                &[
+                    "output.v_peak",
+                    "output.omega1",
+                    "filter.grid_side_inductance",
+                    "grid.i_im",
+                ],
+                "omega_1 L_2 I_(g,\"re\")",
+                &["output.omega1", "filter.grid_side_inductance", "grid.i_re"],
+            )
+        } else {
+            // LC on the grid: the capacitor sits at the connection point itself.
+            ("V_(o,\"pk\")", &["output.v_peak"], "0", &[])
+        };
         let v_c_re = s
             .derive(
                 "filter.v_c_re",
@@ -344,13 +398,8 @@ fn fundamental(d: &Design, s: &mut Sheet, gf: &GridFilter) {
                 "V_(C,\"re\")",
                 Unit::Volt,
             )
-            .formula("V_(o,\"pk\") - omega_1 L_2 I_(g,\"im\")")
-            .inputs(&[
-                "output.v_peak",
-                "output.omega1",
-                "filter.grid_side_inductance",
-                "grid.i_im",
-            ])
+            .formula(re_f)
+            .inputs(re_in)
             .value(v_pk - w1 * l2 * i_im);
         let v_c_im = s
             .derive(
@@ -359,8 +408,8 @@ fn fundamental(d: &Design, s: &mut Sheet, gf: &GridFilter) {
                 "V_(C,\"im\")",
                 Unit::Volt,
             )
-            .formula("omega_1 L_2 I_(g,\"re\")")
-            .inputs(&["output.omega1", "filter.grid_side_inductance", "grid.i_re"])
+            .formula(im_f)
+            .inputs(im_in)
             .value(w1 * l2 * i_re);
         // Y_C = 1 / (R_d + 1 / (j omega C)) = G + j B.
         let wcr = w1 * c * gf.r_d;

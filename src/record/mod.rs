@@ -924,23 +924,23 @@ fn read_assumptions(root: &Section) -> Vec<Assumption> {
 
 /// Consistency between sections, once each section is valid on its own.
 fn cross_checks(r: &Reader, d: &Design) {
-    let kind = d.filter.kind;
-    let fits = match d.output.connection {
-        Connection::Standalone => kind == FilterKind::Lc,
-        Connection::Grid => matches!(kind, FilterKind::L | FilterKind::Lcl),
-    };
-    if !fits {
-        let (what, hint) = match d.output.connection {
-            Connection::Standalone => (
-                "a stand-alone output needs a capacitor across it to hold its voltage; this engine evaluates `lc` there",
-                "use `type: lc`, or `connection: grid`",
+    let standalone = d.output.connection == Connection::Standalone;
+    if standalone && d.filter.kind != FilterKind::Lc {
+        r.error(
+            "filter.type",
+            "a stand-alone output needs a capacitor across it to hold its voltage; this engine evaluates `lc` there",
+            Some("use `type: lc`, or `connection: grid`".into()),
+        );
+    }
+    if !standalone && matches!(d.filter.sizing, FilterSizing::Rule { .. }) {
+        r.error(
+            "filter.design",
+            "the LC sizing rule places the resonance against a stand-alone load; a grid-connected LC is given by its values",
+            Some(
+                "write `inductance:` and `capacitance:`, or use `type: lcl` with its `design` rule"
+                    .into(),
             ),
-            Connection::Grid => (
-                "a grid-connected output is evaluated with an `l` or `lcl` filter; a capacitor straight on the grid has no inductor to limit its current",
-                "use `type: lcl` (add `grid_side_inductance`), or `type: l`",
-            ),
-        };
-        r.error("filter.type", what, Some(hint.into()));
+        );
     }
     let f1 = d.output.frequency.value;
     let fsw = d.bridge.switching_frequency.value;

@@ -91,10 +91,8 @@ fn grid_filter_bode(s: &Sheet) -> Result<Figure, PlotError> {
         &gf,
         if damped {
             "with damping resistor"
-        } else if gf.c.is_some() {
-            "LCL"
         } else {
-            "L"
+            "filter with the grid inductance"
         },
     ));
     if damped {

@@ -4,7 +4,7 @@
 //! shown as the sheet shows it.
 
 use super::sections::{err, value_markup};
-use crate::record::Design;
+use crate::record::{Design, FilterKind};
 use crate::sheet::Sheet;
 
 /// A short paragraph of the main results of a subject, worded for the design's
@@ -13,20 +13,29 @@ pub fn findings(design: &Design, s: &Sheet, subject: &str) -> Result<String, (St
     let v = |id: &str| s.get(id).map(value_markup);
     let grid = design.output.grid();
     let para = match subject {
-        "filter" if grid => match (v("filter.f_res"), v("filter.inductance")) {
-            (Some(fr), Some(l1)) => format!(
-                "The LCL filter has an inverter-side inductance of {l1}, a capacitor of {}, and a grid-side inductance of {}; with the grid's own {} its resonance lies at {fr}.{}",
-                v("filter.capacitance").unwrap_or_default(),
-                v("filter.grid_side_inductance").unwrap_or_default(),
-                v("grid.inductance").unwrap_or_default(),
-                v("filter.damping_resistance").map_or(String::new(), |r| format!(" A damping resistor of {r} in series with the capacitor takes out the resonant peak.")),
-            ),
-            (None, Some(l)) => format!(
-                "The L filter has an inductance of {l}, with the grid's own {} behind the connection point.",
-                v("grid.inductance").unwrap_or_default()
-            ),
-            _ => String::new(),
-        },
+        "filter" if grid => {
+            let l1 = v("filter.inductance").unwrap_or_default();
+            let c = v("filter.capacitance").unwrap_or_default();
+            let lg = v("grid.inductance").unwrap_or_default();
+            let resonance = v("filter.f_res").map_or(String::new(), |fr| {
+                format!(" Its resonance lies at {fr}.")
+            });
+            let damping = v("filter.damping_resistance").map_or(String::new(), |r| {
+                format!(" A damping resistor of {r} in series with the capacitor takes out the resonant peak.")
+            });
+            match design.filter.kind {
+                FilterKind::Lcl => format!(
+                    "The LCL filter has an inverter-side inductance of {l1}, a capacitor of {c} and a grid-side inductance of {}, with the grid's own {lg} behind the connection point.{resonance}{damping}",
+                    v("filter.grid_side_inductance").unwrap_or_default(),
+                ),
+                FilterKind::Lc => format!(
+                    "The LC filter has an inverter-side inductance of {l1} and a capacitor of {c} at the connection point; the grid's own {lg} behind it completes an LCL.{resonance}"
+                ),
+                FilterKind::L => format!(
+                    "The L filter has an inductance of {l1}, with the grid's own {lg} behind the connection point."
+                ),
+            }
+        }
         "filter" => format!(
             "The filter's resonance lies at {}, with a characteristic impedance of {}. At rated load its damping ratio is {}; at light load it falls to {}.",
             v("filter.f0").unwrap_or_default(),
