@@ -165,7 +165,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
         "I_(L,\"pk\")",
         Unit::Ampere,
     )
-    .formula("sqrt(2) I_(L,1) + Delta i_\"pp,max\" / 2")
+    .formula("sqrt(2) I_(L,1) + (Delta i_\"pp,max\") / 2")
     .inputs(&["filter.i_l_f1", "ripple.i_pp_max"])
     .value(2f64.sqrt() * i_l1 + i_pp / 2.0);
 

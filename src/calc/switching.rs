@@ -144,7 +144,7 @@ pub const APPROXIMATION_PERIODS: u32 = 4;
 /// `true` to say it was moved (by at most 1/8). The ripple changes with m_f only as
 /// 1/m_f^2 (`ripple` tests), and a line of carrier group m moves by at most m/8 orders.
 pub fn periodic(pwm: &Pwm) -> (Pwm, bool) {
-    if spectrum::edges(pwm).is_ok() {
+    if spectrum::repeats(pwm.m_f) {
         return (*pwm, false);
     }
     let best = (1..=APPROXIMATION_PERIODS)

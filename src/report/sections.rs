@@ -542,20 +542,24 @@ impl Context<'_> {
         }
         for (stem, qs) in stems {
             let first = qs[0];
+            let order = |q: &Quantity| {
+                q.id.split('.')
+                    .find(|seg| {
+                        seg.starts_with('h') && seg[1..].starts_with(|c: char| c.is_ascii_digit())
+                    })
+                    .map_or(String::new(), |seg| seg[1..].replace('_', "."))
+            };
+            // "Switch-node harmonic 397 (peak), DC maximum" -> "... harmonic h (peak) ...".
+            let first_order = order(first);
+            let family = first.name.replacen(&first_order, "h", 1);
             let rows: Vec<String> = qs
                 .iter()
-                .map(|q| {
-                    format!(
-                        "({}, {}, {})",
-                        string(&q.id),
-                        string(&q.name),
-                        string(&q.display())
-                    )
-                })
+                .map(|q| format!("({}, {})", string(&order(q)), string(&q.display())))
                 .collect();
             out.push_str(&format!(
-                "#line-table(title: {}, source: {}, ({},))\n",
-                string(&format!("Spectral lines {stem}")),
+                "#line-table(title: {}, id: {}, source: {}, ({},))\n",
+                string(&family),
+                string(&stem),
                 string(&pdf_source(&first.source)),
                 rows.join(", ")
             ));

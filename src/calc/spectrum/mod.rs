@@ -328,6 +328,12 @@ fn window(m_f: f64) -> Option<(u64, u32)> {
     })
 }
 
+/// Whether carrier and reference repeat within [`MAX_PERIODS`] fundamental periods,
+/// which the time-domain methods ([`edges`], [`numerical_lines`]) need.
+pub fn repeats(m_f: f64) -> bool {
+    m_f.is_finite() && window(m_f).is_some()
+}
+
 /// Whether m_f is an integer (to the same 1e-9 as [`window`]).
 fn synchronous(m_f: f64) -> bool {
     window(m_f).is_some_and(|(_, q)| q == 1)
