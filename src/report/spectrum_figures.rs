@@ -115,7 +115,7 @@ pub(super) fn output_spectrum(
             .map(|&(h, l)| (f64::from(h) - 0.5, 100.0 * l))
             .collect();
         // Above the tables: no individual limit; the mask stops at order 49.5.
-        mask.push((49.5, 1e-3));
+        mask.push((49.5, 0.0));
         (
                 lines,
                 mask,

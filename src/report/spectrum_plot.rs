@@ -72,7 +72,9 @@ pub struct SpectrumPlot<'a> {
     /// last step runs to the right edge, and nothing is drawn left of the
     /// first. Meant in ascending order; steps given out of order are sorted
     /// (stably, so of two steps at one order the later one applies). Values
-    /// at or below the floor are drawn along the floor. Empty: no mask.
+    /// at or below the floor are drawn along the floor, except a limit of 0 or
+    /// less, which means "no limit from this order on" and ends the mask there
+    /// (meant for the last step). Empty: no mask.
     pub mask: &'a [(f64, f64)],
     /// Legend text of the mask, e.g. "IEEE 1547-2018 limit"; empty leaves
     /// the mask out of the legend.
@@ -633,6 +635,11 @@ fn mask_points(view: &View, l: &SpectrumLayout) -> Vec<(f64, f64)> {
         if b <= a {
             // Outside the window, or a zero-width step overridden by the
             // next one at the same order.
+            continue;
+        }
+        if limit <= 0.0 {
+            // No limit from this order on (e.g. orders no table covers): the mask
+            // ends here instead of running along the floor.
             continue;
         }
         let y = l.y(limit);
@@ -1278,5 +1285,44 @@ mod tests {
         }];
         let dense = spectrum_svg(&plot(&bars, &[(0.0, 4.0), (35.0, 0.3)], &markers), W, H);
         std::fs::write(dir.join("spectrum_dense.svg"), dense.unwrap()).unwrap();
+    }
+
+    #[test]
+    fn a_zero_limit_ends_the_mask_instead_of_running_along_the_floor() {
+        // The grid-current mask stops where the IEEE 1547 tables stop (order 50).
+        let bars = [
+            Bar {
+                order: 1.0,
+                value: 100.0,
+                over_limit: false,
+            },
+            Bar {
+                order: 200.0,
+                value: 0.5,
+                over_limit: false,
+            },
+        ];
+        static WITH_END: [(f64, f64); 2] = [(1.5, 4.0), (49.5, 0.0)];
+        static OPEN: [(f64, f64); 1] = [(1.5, 4.0)];
+        let plot = |mask: &'static [(f64, f64)]| SpectrumPlot {
+            title: "",
+            x_label: "h",
+            y_label: "%",
+            bars: &bars,
+            mask,
+            mask_label: "limit",
+            floor: 1e-3,
+            markers: &[],
+        };
+        let (a, b) = (plot(&WITH_END), plot(&OPEN));
+        let (va, vb) = (validate(&a).unwrap(), validate(&b).unwrap());
+        let la = SpectrumLayout::new(&a, &va, 720, 440).unwrap();
+        let lb = SpectrumLayout::new(&b, &vb, 720, 440).unwrap();
+        let (pa, pb) = (mask_points(&va, &la), mask_points(&vb, &lb));
+        // Both start at order 1.5; the ended mask stops at order 49.5, the open one
+        // runs to the right edge.
+        assert_eq!(pa.len(), 2);
+        assert!((pa[1].0 - la.x(49.5)).abs() < 1e-9);
+        assert!(pb[1].0 > pa[1].0 + 100.0);
     }
 }
