@@ -280,6 +280,12 @@ impl Sheet {
         self.index.get(id).map(|&i| &self.quantities[i])
     }
 
+    /// The symbol of a quantity, for writing it into another's formula; empty if the
+    /// sheet has no such quantity.
+    pub fn symbol(&self, id: &str) -> String {
+        self.get(id).map(|q| q.symbol.clone()).unwrap_or_default()
+    }
+
     /// The value of a quantity the engine itself defined earlier.
     pub fn value(&self, id: &str) -> f64 {
         match self.get(id) {

@@ -459,7 +459,7 @@ fn checks(d: &Design, s: &mut Sheet, f0: f64, cases: &[LoadCase]) {
         let gid = format!("filter.gain_f1.{}", case.key);
         let g = s.value(&gid);
         let eid = format!("filter.gain_error_f1.{}", case.key);
-        let sym = s.get(&gid).map(|q| q.symbol.clone()).unwrap_or_default();
+        let sym = s.symbol(&gid);
         s.derive(
             &eid,
             &format!("Gain deviation from unity at f1, {}", case.label),

@@ -76,7 +76,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
         let tag = short(p.key);
         let k_id = format!("ripple.k_n.{}", p.key);
         let m_id = format!("modulation.m_a.{}", p.key);
-        let m_sym = s.get(&m_id).map(|q| q.symbol.clone()).unwrap_or_default();
+        let m_sym = s.symbol(&m_id);
         s.derive(
             &k_id,
             &format!("Normalised largest ripple, {}", p.label),
@@ -89,12 +89,8 @@ pub fn evaluate(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
         .inputs(&[&m_id])
         .source(envelope_source())
         .value(env.max);
-        let dc_id = match p.key {
-            "min" => "dc.v_min",
-            "max" => "dc.v_max",
-            _ => "dc.v_nominal",
-        };
-        let dc_sym = s.get(dc_id).map(|q| q.symbol.clone()).unwrap_or_default();
+        let dc_id = p.dc_id;
+        let dc_sym = s.symbol(dc_id);
         let id = format!("ripple.i_pp_max.{}", p.key);
         let mut inputs = vec![k_id.as_str(), dc_id, "bridge.f_sw"];
         inputs.extend(l_ids.iter().copied());
@@ -119,10 +115,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
         return;
     }
     let (i_pp, worst_id) = worst;
-    let worst_sym = s
-        .get(&worst_id)
-        .map(|q| q.symbol.clone())
-        .unwrap_or_default();
+    let worst_sym = s.symbol(&worst_id);
     s.derive(
         "ripple.i_pp_max",
         "Largest inductor ripple current over the DC window (peak-to-peak)",

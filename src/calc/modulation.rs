@@ -137,7 +137,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
 
     for (key, label, dc_id) in DC_POINTS {
         let v_dc = s.value(dc_id);
-        let dc_sym = s.get(dc_id).map(|q| q.symbol.clone()).unwrap_or_default();
+        let dc_sym = s.symbol(dc_id);
         s.derive(
             &format!("modulation.m_a_ideal.{key}"),
             &format!("Modulation index, ideal, {label}"),

@@ -150,7 +150,7 @@ fn output_voltage(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
             let thd = harmonic_rss(&lines) / v1;
             let id = format!("quality.v_thd.{}.{}", p.key, case.key);
             let h_id = format!("spectrum.switch.h1.{}", p.key);
-            let h_sym = s.get(&h_id).map(|q| q.symbol.clone()).unwrap_or_default();
+            let h_sym = s.symbol(&h_id);
             let (h_text, mut h_inputs) = lc_transfer_text(s, case);
             h_inputs.push(h_id.clone());
             let h_refs: Vec<&str> = h_inputs.iter().map(String::as_str).collect();
@@ -295,11 +295,6 @@ fn output_voltage(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
     );
 }
 
-/// The symbol of a sheet quantity (empty if absent).
-fn sym(s: &Sheet, id: &str) -> String {
-    s.get(id).map(|q| q.symbol.clone()).unwrap_or_default()
-}
-
 /// The grid filter's admittance written with its components, so the trace names them:
 /// `underline(Y)_g (j h omega_1; L_1, C_f, R_d, L_2')`, and the ids of those inputs.
 fn grid_admittance_text(s: &Sheet) -> (String, Vec<&'static str>) {
@@ -314,7 +309,7 @@ fn grid_admittance_text(s: &Sheet) -> (String, Vec<&'static str>) {
     } else {
         "grid.inductance"
     });
-    let names: Vec<String> = ids[1..].iter().map(|i| sym(s, i)).collect();
+    let names: Vec<String> = ids[1..].iter().map(|i| s.symbol(i)).collect();
     (
         format!("underline(Y)_g (j h omega_1; {})", names.join(", ")),
         ids,
@@ -334,7 +329,7 @@ fn lc_transfer_text(s: &Sheet, case: &LoadCase) -> (String, Vec<String>) {
             ids.push(id);
         }
     }
-    let names: Vec<String> = ids[1..].iter().map(|i| sym(s, i)).collect();
+    let names: Vec<String> = ids[1..].iter().map(|i| s.symbol(i)).collect();
     (format!("H(j h omega_1; {})", names.join(", ")), ids)
 }
 
@@ -398,7 +393,7 @@ fn grid_current(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
         let lines = grid_current_lines(d, s, p);
         let trd = harmonic_rss(&lines) / i_pk;
         let id = format!("quality.i_trd.{}", p.key);
-        let m_sym = sym(s, &format!("modulation.m_a.{}", p.key));
+        let m_sym = s.symbol(&format!("modulation.m_a.{}", p.key));
         s.derive(
             &id,
             &format!("Total rated-current distortion, {}", p.label),

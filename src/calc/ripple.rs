@@ -24,7 +24,7 @@
 //! with no time sampling. Valid wherever [`super::spectrum::edges`] is (overmodulation
 //! included; there the low-order harmonics of v count as ripple too).
 
-use super::spectrum::{edges, leg_edges, Edge, Modulation, Pwm, SpectrumError, Waveform};
+use super::spectrum::{combine_legs, edges, leg_edges, Modulation, Pwm, SpectrumError, Waveform};
 use num_complex::Complex64;
 use std::f64::consts::{FRAC_PI_2, PI};
 
@@ -61,48 +61,9 @@ fn star_point_voltage(pwm: &Pwm) -> Result<Waveform, SpectrumError> {
     let n = legs.len() as f64;
     // The numerator n v_a - sum is a sum of +-1 terms, exact in floating point, so that
     // equal leg states always give bit-equal levels and no edge without a step appears.
-    let combine = |levels: &[f64]| (n * levels[0] - levels.iter().sum::<f64>()) / n;
-    let mut levels: Vec<f64> = legs.iter().map(|w| w.initial).collect();
-    let mut all: Vec<(f64, usize, f64)> = legs
-        .iter()
-        .enumerate()
-        .flat_map(|(i, w)| w.edges.iter().map(move |e| (e.angle, i, e.level)))
-        .collect();
-    all.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-    let initial = combine(&levels);
-    let mut out = Vec::with_capacity(all.len());
-    let mut current = initial;
-    let mut k = 0;
-    while k < all.len() {
-        // Legs switching at the same instant become one edge.
-        let angle = all[k].0;
-        while k < all.len() && all[k].0 == angle {
-            levels[all[k].1] = all[k].2;
-            k += 1;
-        }
-        let level = combine(&levels);
-        if level != current {
-            out.push(Edge { angle, level });
-            current = level;
-        }
-    }
-    Ok(Waveform {
-        periods,
-        initial,
-        edges: out,
-    })
-}
-
-/// (start, end, level) of each constant stretch of a waveform, in order.
-fn segments(w: &Waveform) -> impl Iterator<Item = (f64, f64, f64)> + '_ {
-    let starts =
-        std::iter::once((0.0, w.initial)).chain(w.edges.iter().map(|e| (e.angle, e.level)));
-    let ends = w
-        .edges
-        .iter()
-        .map(|e| e.angle)
-        .chain(std::iter::once(w.window()));
-    starts.zip(ends).map(|((a, level), b)| (a, b, level))
+    Ok(combine_legs(&legs, periods, |levels| {
+        (n * levels[0] - levels.iter().sum::<f64>()) / n
+    }))
 }
 
 /// The Fourier component of a waveform at `order` (of the fundamental, k / periods for
@@ -119,7 +80,7 @@ pub fn fourier_coefficient(w: &Waveform, order: f64) -> Complex64 {
     let turn = |t: f64| Complex64::from_polar(1.0, -order * t);
     let mut sum = Complex64::new(0.0, 0.0);
     let mut at_start = turn(0.0);
-    for (_, b, v) in segments(w) {
+    for (_, b, v) in w.segments() {
         let at_end = turn(b);
         sum += v * (at_end - at_start);
         at_start = at_end;
@@ -237,7 +198,8 @@ impl RippleCurrent {
         let v0 = w.mean();
         let v1 = Fundamental::of(w);
         let mut f = 0.0;
-        let stretches = segments(w)
+        let stretches = w
+            .segments()
             .map(|(a, b, v)| {
                 let s = Stretch {
                     a,

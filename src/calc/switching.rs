@@ -63,6 +63,8 @@ pub struct PointSpectrum {
     pub label: &'static str,
     pub pwm: Pwm,
     pub v_dc: f64,
+    /// The sheet id of that DC voltage.
+    pub dc_id: &'static str,
     pub method: Method,
     /// Lines per unit of V_dc/2, of the bridge output (v_ab for three-phase), sorted by
     /// order, without zero-amplitude lines.
@@ -213,6 +215,7 @@ pub fn spectra(d: &Design, s: &Sheet) -> Result<Vec<PointSpectrum>, SpectrumErro
                 label,
                 pwm,
                 v_dc: s.value(dc_id),
+                dc_id,
                 method,
                 lines: lines
                     .into_iter()
@@ -283,14 +286,11 @@ pub fn evaluate(d: &Design, s: &mut Sheet) -> Vec<PointSpectrum> {
         ""
     };
     for p in &spectra {
-        let dc_id = DC_POINTS
-            .iter()
-            .find(|(k, ..)| *k == p.key)
-            .map_or("dc.v_nominal", |(_, _, id)| id);
-        let dc_sym = s.get(dc_id).map(|q| q.symbol.clone()).unwrap_or_default();
+        let dc_id = p.dc_id;
+        let dc_sym = s.symbol(dc_id);
         let tag = short(p.key);
         let m_id = format!("modulation.m_a.{}", p.key);
-        let m_sym = s.get(&m_id).map(|q| q.symbol.clone()).unwrap_or_default();
+        let m_sym = s.symbol(&m_id);
         let source = match p.method {
             Method::Analytic => dfs_source(),
             Method::Numerical => fft_source(),
@@ -426,14 +426,8 @@ fn regular_sampling(d: &Design, s: &mut Sheet, spectra: &[PointSpectrum]) {
         .map_or(0.0, |(_, a)| *a);
     let (thd, _) = distortion(&v, v1);
     let inputs = ["modulation.m_a.nominal", "modulation.m_f", "dc.v_nominal"];
-    let m_sym = s
-        .get("modulation.m_a.nominal")
-        .map(|q| q.symbol.clone())
-        .unwrap_or_default();
-    let dc_sym = s
-        .get("dc.v_nominal")
-        .map(|q| q.symbol.clone())
-        .unwrap_or_default();
+    let m_sym = s.symbol("modulation.m_a.nominal");
+    let dc_sym = s.symbol("dc.v_nominal");
     s.derive(
         "spectrum.regular.thd.nominal",
         "Switch-node THD with symmetric regular sampling, DC nominal",

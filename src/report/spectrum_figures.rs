@@ -19,16 +19,39 @@ use crate::standards;
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
-/// The DC point whose output distortion the sheet found worst (nominal if unknown).
-fn worst_point<'a>(s: &Sheet, spectra: &'a [PointSpectrum], id: &str) -> &'a PointSpectrum {
-    let at = s
-        .get(id)
-        .and_then(|q| q.name.split(": ").nth(1).map(str::to_string))
-        .unwrap_or_default();
-    spectra
-        .iter()
-        .find(|p| at.starts_with(p.label))
-        .unwrap_or(&spectra[spectra.len() / 2])
+/// The DC point and load case (index into `load_cases`, 2 = rated for a grid design)
+/// whose distortion the sheet found largest: the largest of the sheet's own values
+/// `quality.i_trd.<point>` or `quality.v_thd.<point>.<case>` (DC nominal, rated, if
+/// the sheet has none).
+fn worst_case<'a>(
+    d: &Design,
+    s: &Sheet,
+    spectra: &'a [PointSpectrum],
+) -> (&'a PointSpectrum, usize) {
+    let cases = load_cases(s);
+    let mut best: Option<(f64, usize, usize)> = None;
+    for (pi, p) in spectra.iter().enumerate() {
+        let ids: Vec<(String, usize)> = if d.output.grid() {
+            vec![(format!("quality.i_trd.{}", p.key), 2)]
+        } else {
+            cases
+                .iter()
+                .enumerate()
+                .map(|(ci, c)| (format!("quality.v_thd.{}.{}", p.key, c.key), ci))
+                .collect()
+        };
+        for (id, ci) in ids {
+            if let Some(q) = s.get(&id) {
+                if best.is_none_or(|b| q.value > b.0) {
+                    best = Some((q.value, pi, ci));
+                }
+            }
+        }
+    }
+    match best {
+        Some((_, pi, ci)) => (&spectra[pi], ci),
+        None => (&spectra[spectra.len() / 2], 2),
+    }
 }
 
 /// The bridge output's lines at the worst DC point, as % of its fundamental.
@@ -37,12 +60,7 @@ pub(super) fn switch_spectrum(
     s: &Sheet,
     spectra: &[PointSpectrum],
 ) -> Result<Figure, PlotError> {
-    let id = if d.output.grid() {
-        "quality.i_trd_worst"
-    } else {
-        "quality.v_thd_worst"
-    };
-    let p = worst_point(s, spectra, id);
+    let (p, _) = worst_case(d, s, spectra);
     let v1 = p.fundamental();
     let bars: Vec<Bar> = p
         .lines
@@ -108,7 +126,7 @@ pub(super) fn output_spectrum(
         String,
         String,
     ) = if d.output.grid() {
-        let p = worst_point(s, spectra, "quality.i_trd_worst");
+        let (p, _) = worst_case(d, s, spectra);
         let lines = grid_current_lines(d, s, p);
         let mut mask: Vec<(f64, f64)> = standards::ieee1547_mask(49)
             .iter()
@@ -124,17 +142,8 @@ pub(super) fn output_spectrum(
                 format!("Grid current lines at the {} as a percentage of rated current, with the individual limits of IEEE Std 1547-2018 Tables 26 and 27 (from memory) up to order 49; orders from 50 on count only in the total rated-current distortion.", p.label),
             )
     } else {
-        let p = worst_point(s, spectra, "quality.v_thd_worst");
-        let class = s
-            .get("quality.v_thd_worst")
-            .and_then(|q| q.name.split(": ").nth(1).map(str::to_string))
-            .unwrap_or_default();
-        let cases = load_cases(s);
-        let case = cases
-            .iter()
-            .find(|c| class.ends_with(c.label))
-            .copied()
-            .unwrap_or(cases[2]);
+        let (p, ci) = worst_case(d, s, spectra);
+        let case = load_cases(s)[ci];
         let lines = output_voltage_lines(s, p, &case);
         let limit = s.value("limits.max_voltage_harmonic");
         (

@@ -28,7 +28,7 @@ mod regular;
 pub use analytic::{components, harmonics, lines};
 pub use bessel::bessel_j;
 pub use numerical::{
-    edges, leg_edges, numerical_harmonics, numerical_lines, Edge, Waveform,
+    combine_legs, edges, leg_edges, numerical_harmonics, numerical_lines, Edge, Waveform,
     DEFAULT_SAMPLES_PER_PERIOD,
 };
 pub use regular::{regular_edges, regular_harmonics, regular_leg_edges, regular_lines};

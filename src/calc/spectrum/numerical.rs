@@ -63,7 +63,7 @@ impl Waveform {
     }
 
     /// (start, end, level) of each constant stretch, in order.
-    fn segments(&self) -> impl Iterator<Item = (f64, f64, f64)> + '_ {
+    pub fn segments(&self) -> impl Iterator<Item = (f64, f64, f64)> + '_ {
         let starts = std::iter::once((0.0, self.initial))
             .chain(self.edges.iter().map(|e| (e.angle, e.level)));
         let ends = self
@@ -436,17 +436,25 @@ pub fn edges(pwm: &Pwm) -> Result<Waveform, SpectrumError> {
         .map(|&leg| leg_waveform(pwm, leg, win))
         .collect();
     let output = pwm.modulation.output();
+    Ok(combine_legs(&legs, win.1, |levels| {
+        output.iter().map(|&(i, w)| w * levels[i]).sum::<f64>()
+    }))
+}
+
+/// One waveform from several legs' waveforms over the same window of `periods`
+/// fundamental periods: at every instant the level is `level_of` the legs' levels (in
+/// leg order). Every leg's edges are taken in angle order; legs switching at the same
+/// angle (the complementary legs of a bipolar bridge) make one edge, and an instant at
+/// which the combined level does not change makes none.
+pub fn combine_legs(legs: &[Waveform], periods: u32, level_of: impl Fn(&[f64]) -> f64) -> Waveform {
     let mut levels: Vec<f64> = legs.iter().map(|w| w.initial).collect();
-    let combine = |levels: &[f64]| output.iter().map(|&(i, w)| w * levels[i]).sum::<f64>();
-    // Every leg's edges in angle order; equal angles (the complementary legs of the
-    // bipolar bridge switch together) become one output edge.
     let mut all: Vec<(f64, usize, f64)> = legs
         .iter()
         .enumerate()
         .flat_map(|(i, w)| w.edges.iter().map(move |e| (e.angle, i, e.level)))
         .collect();
     all.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-    let initial = combine(&levels);
+    let initial = level_of(&levels);
     let mut out = Vec::with_capacity(all.len());
     let mut current = initial;
     let mut k = 0;
@@ -456,17 +464,17 @@ pub fn edges(pwm: &Pwm) -> Result<Waveform, SpectrumError> {
             levels[all[k].1] = all[k].2;
             k += 1;
         }
-        let level = combine(&levels);
+        let level = level_of(&levels);
         if level != current {
             out.push(Edge { angle, level });
             current = level;
         }
     }
-    Ok(Waveform {
-        periods: win.1,
+    Waveform {
+        periods,
         initial,
         edges: out,
-    })
+    }
 }
 
 /// Sample k is the exact mean of the waveform over [k D, (k+1) D], D = window / n,

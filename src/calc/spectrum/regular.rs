@@ -51,8 +51,8 @@
 //! sampled waveform is built like the others.
 
 use super::{
-    bessel_j, check, check_order, combine, integer_orders, synchronous, window, Edge, Leg, Line,
-    Modulation, Pwm, SpectrumError, Waveform, MIN_ANALYTIC_CARRIER_RATIO,
+    bessel_j, check, check_order, combine, combine_legs, integer_orders, synchronous, window, Edge,
+    Leg, Line, Modulation, Pwm, SpectrumError, Waveform, MIN_ANALYTIC_CARRIER_RATIO,
 };
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -167,37 +167,9 @@ pub fn regular_edges(pwm: &Pwm) -> Result<Waveform, SpectrumError> {
         .map(|&leg| leg_waveform(pwm, leg, win))
         .collect();
     let output = pwm.modulation.output();
-    let mut levels: Vec<f64> = legs.iter().map(|w| w.initial).collect();
-    let level_of = |levels: &[f64]| output.iter().map(|&(i, w)| w * levels[i]).sum::<f64>();
-    // All legs' edges in angle order; equal angles (the complementary legs of the
-    // bipolar bridge switch together) become one output edge.
-    let mut all: Vec<(f64, usize, f64)> = legs
-        .iter()
-        .enumerate()
-        .flat_map(|(i, w)| w.edges.iter().map(move |e| (e.angle, i, e.level)))
-        .collect();
-    all.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-    let initial = level_of(&levels);
-    let mut edges = Vec::with_capacity(all.len());
-    let mut current = initial;
-    let mut k = 0;
-    while k < all.len() {
-        let angle = all[k].0;
-        while k < all.len() && all[k].0 == angle {
-            levels[all[k].1] = all[k].2;
-            k += 1;
-        }
-        let level = level_of(&levels);
-        if level != current {
-            edges.push(Edge { angle, level });
-            current = level;
-        }
-    }
-    Ok(Waveform {
-        periods: win.1,
-        initial,
-        edges,
-    })
+    Ok(combine_legs(&legs, win.1, |levels| {
+        output.iter().map(|&(i, w)| w * levels[i]).sum::<f64>()
+    }))
 }
 
 /// Whether the series describes this modulation: sinusoidal references only.
