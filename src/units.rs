@@ -33,6 +33,9 @@ pub enum Unit {
     One,
     /// A ratio printed as a percentage; the value is still the fraction (0.05 = 5 %).
     Percent,
+    /// A relative temperature coefficient, held per kelvin (-0.0029 /K), printed in
+    /// percent per kelvin (-0.29 %/K), as module datasheets give it.
+    PercentPerKelvin,
     /// Decibel of a voltage or current ratio, 20 log10.
     Decibel,
     /// Plane angle, held in radians, printed in degrees.
@@ -60,6 +63,7 @@ impl Unit {
             Unit::Kelvin => "K",
             Unit::One => "",
             Unit::Percent => "%",
+            Unit::PercentPerKelvin => "%/K",
             Unit::Decibel => "dB",
             Unit::Degree => "°",
         }
@@ -86,6 +90,7 @@ impl Unit {
             Unit::DegreeCelsius => "degC",
             Unit::Kelvin => "K",
             Unit::One | Unit::Percent => "1",
+            Unit::PercentPerKelvin => "1/K",
             Unit::Decibel => "dB",
             Unit::Degree => "rad",
         }
@@ -110,6 +115,7 @@ impl Unit {
             Unit::DegreeCelsius => "a temperature",
             Unit::Kelvin => "a temperature difference",
             Unit::One | Unit::Percent => "a ratio",
+            Unit::PercentPerKelvin => "a temperature coefficient",
             Unit::Decibel => "a level",
             Unit::Degree => "an angle",
         }
@@ -119,14 +125,19 @@ impl Unit {
     fn takes_prefix(self) -> bool {
         !matches!(
             self,
-            Unit::One | Unit::Percent | Unit::Decibel | Unit::Degree | Unit::DegreeCelsius
+            Unit::One
+                | Unit::Percent
+                | Unit::PercentPerKelvin
+                | Unit::Decibel
+                | Unit::Degree
+                | Unit::DegreeCelsius
         )
     }
 
     /// The value as printed in this unit (percent and degrees are scaled).
     pub fn display_scale(self) -> f64 {
         match self {
-            Unit::Percent => 100.0,
+            Unit::Percent | Unit::PercentPerKelvin => 100.0,
             Unit::Degree => 180.0 / std::f64::consts::PI,
             _ => 1.0,
         }
@@ -187,7 +198,10 @@ pub fn input_symbol(unit: Unit) -> &'static str {
 
 /// Unit symbols accepted in a record, longest first so that `Hz` wins over `H`.
 const INPUT_UNITS: &[(&str, Unit)] = &[
+    ("%/degC", Unit::PercentPerKelvin),
+    ("%/°C", Unit::PercentPerKelvin),
     ("rad/s", Unit::RadianPerSecond),
+    ("%/K", Unit::PercentPerKelvin),
     ("degC", Unit::DegreeCelsius),
     ("ohms", Unit::Ohm),
     ("ohm", Unit::Ohm),
@@ -406,6 +420,20 @@ mod tests {
 
     fn close(a: f64, b: f64) -> bool {
         (a - b).abs() <= 1e-12 * b.abs().max(1.0)
+    }
+
+    #[test]
+    fn temperature_coefficients_are_per_kelvin() {
+        // A coefficient per degree Celsius is the same per kelvin: a temperature
+        // difference of 1 degC is 1 K (BIPM, SI Brochure, 9th ed. (2019), 2.3.1).
+        for text in ["-0.29 %/K", "-0.29 %/degC", "-0.29 %/°C"] {
+            assert!(close(
+                parse_value(text, Unit::PercentPerKelvin).unwrap(),
+                -0.0029
+            ));
+        }
+        assert!(parse_value("-0.29 %", Unit::PercentPerKelvin).is_err());
+        assert_eq!(format_value(-0.0029, Unit::PercentPerKelvin), "-0.29 %/K");
     }
 
     #[test]

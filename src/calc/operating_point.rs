@@ -37,30 +37,6 @@ pub fn load_ids(case: &str) -> (String, String) {
 }
 
 pub fn evaluate(d: &Design, s: &mut Sheet) {
-    given(
-        s,
-        "dc.v_min",
-        "DC voltage, minimum",
-        "V_\"dc,min\"",
-        &d.source.v_min,
-        Unit::Volt,
-    );
-    given(
-        s,
-        "dc.v_nominal",
-        "DC voltage, nominal",
-        "V_\"dc,nom\"",
-        &d.source.v_nominal,
-        Unit::Volt,
-    );
-    given(
-        s,
-        "dc.v_max",
-        "DC voltage, maximum",
-        "V_\"dc,max\"",
-        &d.source.v_max,
-        Unit::Volt,
-    );
     let v = given(
         s,
         "output.v_rms",
@@ -93,6 +69,8 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         &d.output.power_factor,
         Unit::One,
     );
+    // The DC window: written, or from the battery or PV string (it needs P).
+    super::dc_source::evaluate(d, s);
 
     given(
         s,

@@ -331,8 +331,19 @@ fn in_range(r: &Reader, g: &Given, lo: f64, hi: f64, unit: Unit, why: &str) -> b
 }
 
 fn read_source(s: Section) -> Option<DcSource> {
+    let kind = s.choice("kind", &["fixed", "battery", "pv-string"]);
+    let source = match kind {
+        Some("fixed") => read_fixed_source(&s),
+        Some("battery") => read_battery(&s),
+        Some(_) => read_pv_string(&s),
+        None => None,
+    };
+    s.finish();
+    source
+}
+
+fn read_fixed_source(s: &Section) -> Option<DcSource> {
     let r = s.reader();
-    let kind = s.choice("kind", &["fixed"]);
     let v = s.section("voltage");
     let volts = v.map(|v| {
         let t = (
@@ -343,7 +354,6 @@ fn read_source(s: Section) -> Option<DcSource> {
         v.finish();
         t
     });
-    s.finish();
     let (min, nominal, max) = volts?;
     let (min, nominal, max) = (min?, nominal?, max?);
     let why = "DC inputs of this engine are above 0 V and at most 2 kV";
@@ -363,13 +373,215 @@ fn read_source(s: Section) -> Option<DcSource> {
             Some("the DC window must satisfy min <= nominal <= max".into()),
         );
     }
-    // `fixed` is the only kind this version reads; battery and PV strings come later.
-    kind?;
-    Some(DcSource {
-        kind: SourceKind::Fixed,
+    Some(DcSource::Fixed {
         v_min: min,
         v_nominal: nominal,
         v_max: max,
+    })
+}
+
+fn read_battery(s: &Section) -> Option<DcSource> {
+    let r = s.reader();
+    let empty = s.quantity("empty", Unit::Volt);
+    let full = s.quantity("full", Unit::Volt);
+    let nominal = s.optional_quantity("nominal", Unit::Volt);
+    let resistance = s.quantity("internal_resistance", Unit::Ohm);
+    let why = "battery voltages of this engine are above 0 V and at most 2 kV";
+    let mut ok = true;
+    for g in [&empty, &full, &nominal].into_iter().flatten() {
+        ok &= in_range(r, g, 0.0, 2000.0, Unit::Volt, why);
+    }
+    if let Some(g) = &resistance {
+        ok &= in_range(
+            r,
+            g,
+            -1e-30,
+            100.0,
+            Unit::Ohm,
+            "a battery's internal resistance is between 0 and a few ohms",
+        );
+    }
+    let (empty, full, resistance) = (empty?, full?, resistance?);
+    if ok {
+        let n = nominal.as_ref().map_or(empty.value, |g| g.value);
+        if !(empty.value < full.value && empty.value <= n && n <= full.value) {
+            r.error(
+                &full.key,
+                format!(
+                    "battery voltages out of order: empty {} V, full {} V",
+                    empty.value, full.value
+                ),
+                Some("the battery must satisfy empty < full, with any nominal between them".into()),
+            );
+            ok = false;
+        }
+    }
+    ok.then_some(DcSource::Battery(Battery {
+        empty,
+        full,
+        nominal,
+        internal_resistance: resistance,
+    }))
+}
+
+fn read_pv_string(s: &Section) -> Option<DcSource> {
+    let r = s.reader();
+    let series = s.quantity("modules_in_series", Unit::One);
+    let parallel = s.quantity("strings_in_parallel", Unit::One);
+    let module = s.section("module").map(|m| {
+        let t = (
+            m.quantity("voc", Unit::Volt),
+            m.quantity("vmp", Unit::Volt),
+            m.quantity("isc", Unit::Ampere),
+            m.quantity("imp", Unit::Ampere),
+            m.quantity("voc_coefficient", Unit::PercentPerKelvin),
+            m.quantity("vmp_coefficient", Unit::PercentPerKelvin),
+        );
+        m.finish();
+        t
+    });
+    let site = s.section("site").map(|m| {
+        let t = (
+            m.quantity("record_low", Unit::DegreeCelsius),
+            m.quantity("design_high", Unit::DegreeCelsius),
+            m.quantity("cell_rise", Unit::Kelvin),
+        );
+        m.finish();
+        t
+    });
+    let whole = |g: &Option<Given>, hi: f64, what: &str| {
+        g.as_ref().is_some_and(|g| {
+            let ok = in_range(r, g, 0.0, hi, Unit::One, what);
+            if ok && g.value.fract() != 0.0 {
+                r.error(
+                    &g.key,
+                    format!("`{}` is not a whole number", g.value),
+                    Some(format!("{what}; write a whole number such as `16`")),
+                );
+                return false;
+            }
+            ok
+        })
+    };
+    let counts_ok = whole(
+        &series,
+        200.0,
+        "a string has between 1 and 200 modules in series",
+    ) & whole(
+        &parallel,
+        1000.0,
+        "an array has between 1 and 1000 strings in parallel",
+    );
+    let (voc, vmp, isc, imp, bv, bm) = module?;
+    let (low, high, rise) = site?;
+    let (voc, vmp, isc, imp, bv, bm) = (voc?, vmp?, isc?, imp?, bv?, bm?);
+    let (low, high, rise) = (low?, high?, rise?);
+    let mut ok = counts_ok;
+    ok &= in_range(
+        r,
+        &voc,
+        0.0,
+        200.0,
+        Unit::Volt,
+        "a module's open-circuit voltage is a few tens of volts",
+    );
+    ok &= in_range(
+        r,
+        &vmp,
+        0.0,
+        200.0,
+        Unit::Volt,
+        "a module's maximum-power voltage is a few tens of volts",
+    );
+    ok &= in_range(
+        r,
+        &isc,
+        0.0,
+        100.0,
+        Unit::Ampere,
+        "a module's short-circuit current is a few amperes to a few tens",
+    );
+    ok &= in_range(
+        r,
+        &imp,
+        0.0,
+        100.0,
+        Unit::Ampere,
+        "a module's maximum-power current is a few amperes to a few tens",
+    );
+    for g in [&bv, &bm] {
+        ok &= in_range(
+            r,
+            g,
+            -0.02,
+            0.0,
+            Unit::PercentPerKelvin,
+            "a silicon module's voltage falls as it warms: its coefficient is negative, about -0.25 %/K to -0.45 %/K",
+        );
+    }
+    ok &= in_range(
+        r,
+        &low,
+        -80.0,
+        40.0,
+        Unit::DegreeCelsius,
+        "the record-low ambient of a site is between -80 degC and 40 degC",
+    );
+    ok &= in_range(
+        r,
+        &high,
+        -20.0,
+        70.0,
+        Unit::DegreeCelsius,
+        "the high design ambient of a site is between -20 degC and 70 degC",
+    );
+    ok &= in_range(
+        r,
+        &rise,
+        -1e-30,
+        80.0,
+        Unit::Kelvin,
+        "cells run 20 K to 35 K above ambient in full sun on an open rack, more on a roof",
+    );
+    if ok && vmp.value >= voc.value {
+        r.error(
+            &vmp.key,
+            "the maximum-power voltage is not below the open-circuit voltage",
+            Some("check `vmp` and `voc` against the module datasheet".into()),
+        );
+        ok = false;
+    }
+    if ok && imp.value >= isc.value {
+        r.error(
+            &imp.key,
+            "the maximum-power current is not below the short-circuit current",
+            Some("check `imp` and `isc` against the module datasheet".into()),
+        );
+        ok = false;
+    }
+    if ok && low.value >= high.value {
+        r.error(
+            &low.key,
+            "the record-low temperature is not below the high design temperature",
+            Some("`record_low` is the coldest morning, `design_high` the hottest afternoon".into()),
+        );
+        ok = false;
+    }
+    let (series, parallel) = (series?, parallel?);
+    ok.then(|| {
+        DcSource::PvString(Box::new(PvString {
+            modules_in_series: series,
+            strings_in_parallel: parallel,
+            voc,
+            vmp,
+            isc,
+            imp,
+            voc_coefficient: bv,
+            vmp_coefficient: bm,
+            record_low: low,
+            design_high: high,
+            cell_rise: rise,
+        }))
     })
 }
 
@@ -807,6 +1019,13 @@ fn read_limits(section: Option<Section>) -> Option<Limits> {
             0.10,
             "10 % of rated power as the light-load case",
         ),
+        max_system_voltage: limit(
+            s,
+            "max_system_voltage",
+            Unit::Volt,
+            1000.0,
+            "1000 V, the usual voltage rating of PV modules, connectors and inverter inputs outside dwellings; local codes may set less (e.g. 600 V on dwellings under NEC 690.7, from memory)",
+        ),
         max_ripple_fraction: limit(
             s,
             "max_ripple_fraction",
@@ -832,7 +1051,14 @@ fn read_limits(section: Option<Section>) -> Option<Limits> {
                 "a voltage distortion limit is a percentage of the fundamental above 0 %",
             );
         }
-        let bounds: [(&Limit, f64, f64, Unit, &str); 7] = [
+        let bounds: [(&Limit, f64, f64, Unit, &str); 8] = [
+            (
+                &limits.max_system_voltage,
+                0.0,
+                2000.0,
+                Unit::Volt,
+                "the system voltage rating is above 0 V and at most 2 kV",
+            ),
             (
                 &limits.max_modulation_index,
                 0.0,

@@ -45,17 +45,50 @@ pub struct Project {
     pub revisions: Vec<RevisionEntry>,
 }
 
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum SourceKind {
-    Fixed,
+/// The DC source and how its voltage window is obtained.
+#[derive(Clone, Debug, PartialEq)]
+pub enum DcSource {
+    /// The window written in the record.
+    Fixed {
+        v_min: Given,
+        v_nominal: Given,
+        v_max: Given,
+    },
+    Battery(Battery),
+    PvString(Box<PvString>),
 }
 
+/// A battery: its open-circuit voltage at empty and at full charge, and its internal
+/// resistance, which lowers the terminal voltage under load.
 #[derive(Clone, Debug, PartialEq)]
-pub struct DcSource {
-    pub kind: SourceKind,
-    pub v_min: Given,
-    pub v_nominal: Given,
-    pub v_max: Given,
+pub struct Battery {
+    pub empty: Given,
+    pub full: Given,
+    /// Open-circuit voltage taken as nominal; the midpoint of empty and full if absent.
+    pub nominal: Option<Given>,
+    pub internal_resistance: Given,
+}
+
+/// A PV array of equal strings: its modules at standard test conditions, their
+/// temperature coefficients and the site's design temperatures.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PvString {
+    pub modules_in_series: Given,
+    pub strings_in_parallel: Given,
+    pub voc: Given,
+    pub vmp: Given,
+    pub isc: Given,
+    pub imp: Given,
+    /// Relative change of Voc per kelvin (negative).
+    pub voc_coefficient: Given,
+    /// Relative change of Vmp per kelvin (negative).
+    pub vmp_coefficient: Given,
+    /// The site's record-low ambient temperature (the coldest morning).
+    pub record_low: Given,
+    /// The site's high design ambient temperature.
+    pub design_high: Given,
+    /// Cell temperature above ambient in full sun.
+    pub cell_rise: Given,
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -220,6 +253,8 @@ pub struct Limits {
     pub max_gain_deviation: Limit,
     pub min_light_load_damping: Limit,
     pub light_load: Limit,
+    /// Highest DC voltage the system and its equipment are rated for (PV strings).
+    pub max_system_voltage: Limit,
     /// Largest inverter-side ripple as a fraction of the rated peak current.
     pub max_ripple_fraction: Limit,
     /// Stand-alone output voltage distortion; `None` takes IEEE Std 519-2014 Table 1

@@ -67,6 +67,7 @@ pub const ENGINE_ASSUMPTIONS: &[(&str, &str)] = &[
     ("E7", "The switching spectrum is that of ideal naturally sampled PWM at a constant DC voltage: low-order harmonics from dead time, device drops, DC ripple, sampling delay and control are not in it, and must be covered by measurement."),
     ("E8", "A grid-connected bridge sees a stiff sinusoidal grid source free of harmonics behind the stated grid inductance (zero where none is stated)."),
     ("E9", "The grid current is at the rated power and power factor, lagging the voltage at the connection point by arccos of the power factor; a balanced three-phase output is evaluated per phase."),
+    ("E10", "A battery's or PV string's DC power is taken as the rated output power (the bridge's losses are not in it), and a battery's open-circuit voltage sits behind a constant internal resistance."),
 ];
 
 /// Everything the sections need.
