@@ -27,9 +27,10 @@
 
 use super::bessel;
 use super::{
-    check, check_order, combine, integer_orders, synchronous, window, Component, Line, Modulation,
-    Pwm, SpectrumError, MIN_ANALYTIC_CARRIER_RATIO,
+    check, check_order, combine, window, Component, Line, Pwm, SpectrumError,
+    MIN_ANALYTIC_CARRIER_RATIO,
 };
+use super::{series_covers, series_harmonics};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -70,7 +71,7 @@ fn sideband_reach(z: f64) -> usize {
 /// [`SpectrumError::NoSeries`].
 pub fn components(pwm: &Pwm, max_order: f64) -> Result<Vec<Component>, SpectrumError> {
     check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
-    covered(pwm.modulation)?;
+    series_covers(pwm.modulation)?;
     check_order(max_order)?;
     if pwm.m_a > 1.0 {
         return Err(SpectrumError::Overmodulation(pwm.m_a));
@@ -127,17 +128,6 @@ pub fn components(pwm: &Pwm, max_order: f64) -> Result<Vec<Component>, SpectrumE
     Ok(out)
 }
 
-/// Whether the series describes this modulation: sinusoidal references only.
-fn covered(modulation: Modulation) -> Result<(), SpectrumError> {
-    match modulation {
-        Modulation::HalfBridge
-        | Modulation::FullBridgeBipolar
-        | Modulation::FullBridgeUnipolar
-        | Modulation::ThreePhase => Ok(()),
-        Modulation::ThreePhaseThirdHarmonic => Err(SpectrumError::NoSeries(modulation)),
-    }
-}
-
 /// Adds the term Re[k e^(j order theta)], folding a negative order onto the positive
 /// one with the conjugate phasor.
 fn push(out: &mut Vec<Component>, carrier: u32, sideband: i32, order: f64, k: Complex64) {
@@ -187,13 +177,7 @@ pub fn lines(pwm: &Pwm, max_order: f64) -> Result<Vec<Line>, SpectrumError> {
 /// Amplitudes per unit of V/2 at orders 0 (|DC|), 1, ..., `max_order` of an integer
 /// m_f, every term of the series at that order added as a phasor: entry h is order h.
 pub fn harmonics(pwm: &Pwm, max_order: u32) -> Result<Vec<(u32, f64)>, SpectrumError> {
-    check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
-    covered(pwm.modulation)?;
-    if !synchronous(pwm.m_f) {
-        return Err(SpectrumError::NotSynchronous(pwm.m_f));
-    }
-    let lines = lines(pwm, f64::from(max_order))?;
-    Ok(integer_orders(&lines, max_order))
+    series_harmonics(pwm, max_order, lines)
 }
 
 #[cfg(test)]

@@ -300,6 +300,34 @@ impl fmt::Display for SpectrumError {
 
 impl std::error::Error for SpectrumError {}
 
+/// Whether the analytic series (natural or regular sampling) describe this modulation:
+/// sinusoidal references only; third-harmonic injection has no series here.
+fn series_covers(modulation: Modulation) -> Result<(), SpectrumError> {
+    match modulation {
+        Modulation::HalfBridge
+        | Modulation::FullBridgeBipolar
+        | Modulation::FullBridgeUnipolar
+        | Modulation::ThreePhase => Ok(()),
+        Modulation::ThreePhaseThirdHarmonic => Err(SpectrumError::NoSeries(modulation)),
+    }
+}
+
+/// Integer-order amplitudes 0..=max_order of an integer m_f from a series' `lines`:
+/// entry h is order h.
+fn series_harmonics(
+    pwm: &Pwm,
+    max_order: u32,
+    lines: impl Fn(&Pwm, f64) -> Result<Vec<Line>, SpectrumError>,
+) -> Result<Vec<(u32, f64)>, SpectrumError> {
+    check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
+    series_covers(pwm.modulation)?;
+    if !synchronous(pwm.m_f) {
+        return Err(SpectrumError::NotSynchronous(pwm.m_f));
+    }
+    let lines = lines(pwm, f64::from(max_order))?;
+    Ok(integer_orders(&lines, max_order))
+}
+
 /// Checks the modulation index and carrier ratio shared by both methods.
 fn check(pwm: &Pwm, min_m_f: f64) -> Result<(), SpectrumError> {
     if !(pwm.m_a.is_finite() && pwm.m_a >= 0.0) {

@@ -429,16 +429,26 @@ pub fn leg_edges(pwm: &Pwm, leg: usize) -> Result<Waveform, SpectrumError> {
 /// [`leg_edges`].
 pub fn edges(pwm: &Pwm) -> Result<Waveform, SpectrumError> {
     let win = setup(pwm)?;
+    Ok(bridge_output(pwm, win.1, |leg| leg_waveform(pwm, leg, win)))
+}
+
+/// The bridge output of `pwm` from each leg's waveform as `leg_waveform` builds it
+/// (naturally or regularly sampled): the legs combined by [`Modulation::output`].
+pub(super) fn bridge_output(
+    pwm: &Pwm,
+    periods: u32,
+    leg_waveform: impl Fn(Leg) -> Waveform,
+) -> Waveform {
     let legs: Vec<Waveform> = pwm
         .modulation
         .leg_set()
         .iter()
-        .map(|&leg| leg_waveform(pwm, leg, win))
+        .map(|&leg| leg_waveform(leg))
         .collect();
     let output = pwm.modulation.output();
-    Ok(combine_legs(&legs, win.1, |levels| {
+    combine_legs(&legs, periods, |levels| {
         output.iter().map(|&(i, w)| w * levels[i]).sum::<f64>()
-    }))
+    })
 }
 
 /// One waveform from several legs' waveforms over the same window of `periods`

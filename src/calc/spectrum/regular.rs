@@ -50,10 +50,12 @@
 //! Third-harmonic injection has no series here ([`SpectrumError::NoSeries`]); its
 //! sampled waveform is built like the others.
 
+use super::numerical::bridge_output;
 use super::{
-    bessel_j, check, check_order, combine, combine_legs, integer_orders, synchronous, window, Edge,
-    Leg, Line, Modulation, Pwm, SpectrumError, Waveform, MIN_ANALYTIC_CARRIER_RATIO,
+    bessel_j, check, check_order, combine, window, Edge, Leg, Line, Pwm, SpectrumError, Waveform,
+    MIN_ANALYTIC_CARRIER_RATIO,
 };
+use super::{series_covers, series_harmonics};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -160,27 +162,7 @@ pub fn regular_leg_edges(pwm: &Pwm, leg: usize) -> Result<Waveform, SpectrumErro
 /// minus leg b, or v_ab). Same range as [`regular_leg_edges`].
 pub fn regular_edges(pwm: &Pwm) -> Result<Waveform, SpectrumError> {
     let win = setup(pwm)?;
-    let legs: Vec<Waveform> = pwm
-        .modulation
-        .leg_set()
-        .iter()
-        .map(|&leg| leg_waveform(pwm, leg, win))
-        .collect();
-    let output = pwm.modulation.output();
-    Ok(combine_legs(&legs, win.1, |levels| {
-        output.iter().map(|&(i, w)| w * levels[i]).sum::<f64>()
-    }))
-}
-
-/// Whether the series describes this modulation: sinusoidal references only.
-fn covered(modulation: Modulation) -> Result<(), SpectrumError> {
-    match modulation {
-        Modulation::HalfBridge
-        | Modulation::FullBridgeBipolar
-        | Modulation::FullBridgeUnipolar
-        | Modulation::ThreePhase => Ok(()),
-        Modulation::ThreePhaseThirdHarmonic => Err(SpectrumError::NoSeries(modulation)),
-    }
+    Ok(bridge_output(pwm, win.1, |leg| leg_waveform(pwm, leg, win)))
 }
 
 /// sin(k pi / 2 - e) for an integer k, without rounding in k pi / 2.
@@ -215,7 +197,7 @@ fn sin_quarter_turns_minus(k: i64, e: f64) -> f64 {
 /// [`Modulation::ThreePhaseThirdHarmonic`] gets [`SpectrumError::NoSeries`].
 pub fn regular_lines(pwm: &Pwm, max_order: f64) -> Result<Vec<Line>, SpectrumError> {
     check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
-    covered(pwm.modulation)?;
+    series_covers(pwm.modulation)?;
     check_order(max_order)?;
     if pwm.m_a > 1.0 {
         return Err(SpectrumError::Overmodulation(pwm.m_a));
@@ -308,18 +290,12 @@ fn ln_bound(m_a: f64, x: f64, k: usize, ln_fact: f64) -> f64 {
 /// Amplitudes per unit of V/2 at orders 0 (|DC|), 1, ..., `max_order` of an integer
 /// m_f, from [`regular_lines`]: entry h is order h.
 pub fn regular_harmonics(pwm: &Pwm, max_order: u32) -> Result<Vec<(u32, f64)>, SpectrumError> {
-    check(pwm, MIN_ANALYTIC_CARRIER_RATIO)?;
-    covered(pwm.modulation)?;
-    if !synchronous(pwm.m_f) {
-        return Err(SpectrumError::NotSynchronous(pwm.m_f));
-    }
-    let lines = regular_lines(pwm, f64::from(max_order))?;
-    Ok(integer_orders(&lines, max_order))
+    series_harmonics(pwm, max_order, regular_lines)
 }
 
 #[cfg(test)]
 mod tests {
-    use super::super::harmonics;
+    use super::super::{harmonics, Modulation};
     use super::*;
     use std::collections::BTreeMap;
 
