@@ -4,19 +4,8 @@
 
 mod common;
 
-use bridgebook::calc;
 use bridgebook::record;
-use bridgebook::sheet::Sheet;
-
-fn evaluate(text: &str) -> Sheet {
-    let rec = record::load_str("test.yaml", text).unwrap_or_else(|e| panic!("{e}"));
-    calc::evaluate(&rec.design)
-}
-
-fn edit(text: &str, from: &str, to: &str) -> String {
-    assert!(text.contains(from), "`{from}` not in the record");
-    text.replacen(from, to, 1)
-}
+use common::{edit, evaluate};
 
 #[test]
 fn pv_string_window_by_the_temperature_corrected_method() {

@@ -3,9 +3,7 @@
 
 mod common;
 
-use bridgebook::calc;
-use bridgebook::record;
-use bridgebook::sheet::Sheet;
+use common::evaluate;
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -31,11 +29,6 @@ filter:
 ",
         dc.0, dc.1, dc.2
     )
-}
-
-fn evaluate(text: &str) -> Sheet {
-    let rec = record::load_str("test.yaml", text).unwrap_or_else(|e| panic!("{e}"));
-    calc::evaluate(&rec.design)
 }
 
 fn rel(a: f64, b: f64) -> f64 {

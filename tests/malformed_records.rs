@@ -5,19 +5,8 @@
 
 mod common;
 
-use common::{demo, Scratch};
+use common::{demo, edit, Scratch};
 use std::process::{Command, Output};
-
-/// Replaces the one occurrence of `from`; panics if the demo no longer has exactly one,
-/// so that a drifting demo fails the test instead of leaving the record valid.
-fn edit(text: &str, from: &str, to: &str) -> String {
-    let n = text.matches(from).count();
-    assert_eq!(
-        n, 1,
-        "expected `{from}` exactly once in the record, found {n}"
-    );
-    text.replacen(from, to, 1)
-}
 
 /// 1-based number of the one line that contains `needle`.
 fn line_of(text: &str, needle: &str) -> usize {

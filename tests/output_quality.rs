@@ -4,20 +4,9 @@
 
 mod common;
 
-use bridgebook::calc;
-use bridgebook::record;
 use bridgebook::sheet::Sheet;
+use common::{edit, evaluate};
 use std::f64::consts::PI;
-
-fn evaluate(text: &str) -> Sheet {
-    let rec = record::load_str("test.yaml", text).unwrap_or_else(|e| panic!("{e}"));
-    calc::evaluate(&rec.design)
-}
-
-fn edit(text: &str, from: &str, to: &str) -> String {
-    assert!(text.contains(from), "`{from}` not in the record");
-    text.replacen(from, to, 1)
-}
 
 const WARNING_WORDS: &str = "outside the region where the filter resonance";
 

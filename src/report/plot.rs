@@ -1900,8 +1900,46 @@ fn clip_to_band(pts: &[(f64, f64)], top: f64, bottom: f64) -> Vec<Vec<(f64, f64)
     runs
 }
 
+/// Readers of the SVG documents the plot tests inspect (shared by the plot kinds).
+#[cfg(test)]
+pub(crate) mod svg_probe {
+    /// Text content of every `<text>` element, in document order.
+    pub fn texts(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .filter_map(|chunk| {
+                let body = &chunk[chunk.find('>')? + 1..];
+                Some(body[..body.find("</text>")?].trim().to_string())
+            })
+            .collect()
+    }
+
+    /// Pixel vertices of every polyline drawn in `stroke`, in drawing units.
+    pub fn polylines(svg: &str, stroke: &str) -> Vec<Vec<(i32, i32)>> {
+        svg.lines()
+            .filter(|l| l.contains(&format!("stroke=\"{stroke}\"")) && l.contains("points="))
+            .map(|l| {
+                let pts = l
+                    .split("points=\"")
+                    .nth(1)
+                    .unwrap()
+                    .split('"')
+                    .next()
+                    .unwrap();
+                pts.split_whitespace()
+                    .map(|xy| {
+                        let (x, y) = xy.split_once(',').unwrap();
+                        (x.parse().unwrap(), y.parse().unwrap())
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+}
+
 #[cfg(test)]
 mod tests {
+    use super::svg_probe::{polylines, texts};
     use super::*;
 
     /// Second-order low-pass H(s) = w0² / (s² + 2ζw0 s + w0²) at `f`.
@@ -1950,17 +1988,6 @@ mod tests {
             markers: &markers,
         };
         bode_svg(&plot, 720, 560).expect("sample plot renders")
-    }
-
-    /// Text content of every `<text>` element, in document order.
-    fn texts(svg: &str) -> Vec<String> {
-        svg.split("<text")
-            .skip(1)
-            .filter_map(|chunk| {
-                let body = &chunk[chunk.find('>')? + 1..];
-                Some(body[..body.find("</text>")?].trim().to_string())
-            })
-            .collect()
     }
 
     #[test]
@@ -2357,28 +2384,6 @@ mod tests {
     fn sample_line_svg() -> String {
         let (series, levels, markers) = (sample_series(), sample_levels(), voltage_markers());
         line_svg(&line_plot(&series, &levels, &markers), 720, 440).expect("sample renders")
-    }
-
-    /// Pixel vertices of every polyline drawn in `stroke`, in drawing units.
-    fn polylines(svg: &str, stroke: &str) -> Vec<Vec<(i32, i32)>> {
-        svg.lines()
-            .filter(|l| l.contains(&format!("stroke=\"{stroke}\"")) && l.contains("points="))
-            .map(|l| {
-                let pts = l
-                    .split("points=\"")
-                    .nth(1)
-                    .unwrap()
-                    .split('"')
-                    .next()
-                    .unwrap();
-                pts.split_whitespace()
-                    .map(|xy| {
-                        let (x, y) = xy.split_once(',').unwrap();
-                        (x.parse().unwrap(), y.parse().unwrap())
-                    })
-                    .collect()
-            })
-            .collect()
     }
 
     #[test]

@@ -203,6 +203,17 @@ pub(super) fn output_spectrum(
     })
 }
 
+/// `lines` synthesised at `n + 1` evenly spaced angles over one fundamental period:
+/// (angle in degrees, value).
+fn over_one_period(lines: &[(f64, Complex64)], n: usize) -> Vec<(f64, f64)> {
+    (0..=n)
+        .map(|i| {
+            let t = 2.0 * PI * i as f64 / n as f64;
+            (t.to_degrees(), synthesise(lines, t))
+        })
+        .collect()
+}
+
 /// Sum of lines with phasors `a`, at angle theta.
 fn synthesise(lines: &[(f64, Complex64)], theta: f64) -> f64 {
     lines
@@ -286,12 +297,7 @@ pub(super) fn waveforms(
             },
             Series {
                 label: "its fundamental".into(),
-                points: (0..=n)
-                    .map(|i| {
-                        let t = 2.0 * PI * i as f64 / n as f64;
-                        (t.to_degrees(), synthesise(&fund, t))
-                    })
-                    .collect(),
+                points: over_one_period(&fund, n),
             },
         ];
         figs.push(line_figure(
@@ -303,12 +309,7 @@ pub(super) fn waveforms(
         )?);
         let series = vec![Series {
             label: "grid current".into(),
-            points: (0..=n)
-                .map(|i| {
-                    let t = 2.0 * PI * i as f64 / n as f64;
-                    (t.to_degrees(), synthesise(&lines_i, t))
-                })
-                .collect(),
+            points: over_one_period(&lines_i, n),
         }];
         figs.push(line_figure(
             "output-waveform",
@@ -333,12 +334,7 @@ pub(super) fn waveforms(
             },
             Series {
                 label: "output".into(),
-                points: (0..=n)
-                    .map(|i| {
-                        let t = 2.0 * PI * i as f64 / n as f64;
-                        (t.to_degrees(), synthesise(&lines_o, t))
-                    })
-                    .collect(),
+                points: over_one_period(&lines_o, n),
             },
         ];
         let series_o: Vec<Series> = load_cases(s)
@@ -351,12 +347,7 @@ pub(super) fn waveforms(
                     .collect();
                 Series {
                     label: case.label.to_string(),
-                    points: (0..=n)
-                        .map(|i| {
-                            let t = 2.0 * PI * i as f64 / n as f64;
-                            (t.to_degrees(), synthesise(&lines, t))
-                        })
-                        .collect(),
+                    points: over_one_period(&lines, n),
                 }
             })
             .collect();

@@ -689,6 +689,7 @@ fn draw_legend(root: &Area, l: &SpectrumLayout, labels: &[&str; 2]) -> DrawResul
 
 #[cfg(test)]
 mod tests {
+    use super::super::plot::svg_probe::{polylines, texts};
     use super::*;
 
     const W: u32 = 720;
@@ -776,17 +777,6 @@ mod tests {
         (view, layout)
     }
 
-    /// Text content of every `<text>` element, in document order.
-    fn texts(svg: &str) -> Vec<String> {
-        svg.split("<text")
-            .skip(1)
-            .filter_map(|chunk| {
-                let body = &chunk[chunk.find('>')? + 1..];
-                Some(body[..body.find("</text>")?].trim().to_string())
-            })
-            .collect()
-    }
-
     fn attr(line: &str, name: &str) -> i32 {
         let key = format!(" {name}=\"");
         let rest = &line[line.find(&key).unwrap() + key.len()..];
@@ -804,28 +794,6 @@ mod tests {
                     attr(l, "width"),
                     attr(l, "height"),
                 )
-            })
-            .collect()
-    }
-
-    /// Vertices of every polyline stroked in `stroke`.
-    fn polylines(svg: &str, stroke: &str) -> Vec<Vec<(i32, i32)>> {
-        svg.lines()
-            .filter(|l| l.contains(&format!("stroke=\"{stroke}\"")) && l.contains("points="))
-            .map(|l| {
-                let pts = l
-                    .split("points=\"")
-                    .nth(1)
-                    .unwrap()
-                    .split('"')
-                    .next()
-                    .unwrap();
-                pts.split_whitespace()
-                    .map(|xy| {
-                        let (x, y) = xy.split_once(',').unwrap();
-                        (x.parse().unwrap(), y.parse().unwrap())
-                    })
-                    .collect()
             })
             .collect()
     }

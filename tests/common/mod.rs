@@ -53,6 +53,23 @@ pub fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).to_string()
 }
 
+/// Loads a record text (it must be valid) and evaluates it.
+pub fn evaluate(text: &str) -> bridgebook::sheet::Sheet {
+    let rec = bridgebook::record::load_str("test.yaml", text).unwrap_or_else(|e| panic!("{e}"));
+    bridgebook::calc::evaluate(&rec.design)
+}
+
+/// `text` with `from` replaced by `to`; panics unless `from` stands in it exactly
+/// once, so that a drifting demo fails the test instead of leaving the record valid.
+pub fn edit(text: &str, from: &str, to: &str) -> String {
+    let n = text.matches(from).count();
+    assert_eq!(
+        n, 1,
+        "expected `{from}` exactly once in the record, found {n}"
+    );
+    text.replacen(from, to, 1)
+}
+
 /// The text of a demo record in `designs/`.
 pub fn demo(name: &str) -> String {
     let p = Path::new(env!("CARGO_MANIFEST_DIR"))
