@@ -43,7 +43,10 @@ impl Source {
     /// One line for a package or a terminal.
     pub fn describe(&self) -> String {
         match self {
-            Source::Input { key, line } => format!("design record, `{key}` (line {line})"),
+            Source::Input { key, line } => match key.split_once(':') {
+                Some((file, path)) => format!("device library `{file}`, `{path}` (line {line})"),
+                None => format!("design record, `{key}` (line {line})"),
+            },
             Source::Assumption { id } => format!("assumption {id}"),
             Source::Reference { document, clause } => format!("{document}, {clause}"),
             Source::CommonPractice { note } => format!("common practice: {note}"),

@@ -40,6 +40,10 @@ pub enum Unit {
     Decibel,
     /// Plane angle, held in radians, printed in degrees.
     Degree,
+    /// Thermal resistance, kelvin of temperature rise per watt.
+    KelvinPerWatt,
+    /// A long time (capacitor life), held in seconds, printed in hours.
+    Hour,
 }
 
 impl Unit {
@@ -66,6 +70,8 @@ impl Unit {
             Unit::PercentPerKelvin => "%/K",
             Unit::Decibel => "dB",
             Unit::Degree => "°",
+            Unit::KelvinPerWatt => "K/W",
+            Unit::Hour => "h",
         }
     }
 
@@ -93,6 +99,8 @@ impl Unit {
             Unit::PercentPerKelvin => "1/K",
             Unit::Decibel => "dB",
             Unit::Degree => "rad",
+            Unit::KelvinPerWatt => "K/W",
+            Unit::Hour => "s",
         }
     }
 
@@ -118,6 +126,8 @@ impl Unit {
             Unit::PercentPerKelvin => "a temperature coefficient",
             Unit::Decibel => "a level",
             Unit::Degree => "an angle",
+            Unit::KelvinPerWatt => "a thermal resistance",
+            Unit::Hour => "a lifetime",
         }
     }
 
@@ -131,6 +141,8 @@ impl Unit {
                 | Unit::Decibel
                 | Unit::Degree
                 | Unit::DegreeCelsius
+                | Unit::KelvinPerWatt
+                | Unit::Hour
         )
     }
 
@@ -139,6 +151,7 @@ impl Unit {
         match self {
             Unit::Percent | Unit::PercentPerKelvin => 100.0,
             Unit::Degree => 180.0 / std::f64::consts::PI,
+            Unit::Hour => 1.0 / 3600.0,
             _ => 1.0,
         }
     }
@@ -202,6 +215,8 @@ const INPUT_UNITS: &[(&str, Unit)] = &[
     ("%/°C", Unit::PercentPerKelvin),
     ("rad/s", Unit::RadianPerSecond),
     ("%/K", Unit::PercentPerKelvin),
+    ("K/W", Unit::KelvinPerWatt),
+    ("°C/W", Unit::KelvinPerWatt),
     ("degC", Unit::DegreeCelsius),
     ("ohms", Unit::Ohm),
     ("ohm", Unit::Ohm),
@@ -225,6 +240,7 @@ const INPUT_UNITS: &[(&str, Unit)] = &[
     ("J", Unit::Joule),
     ("K", Unit::Kelvin),
     ("%", Unit::Percent),
+    ("h", Unit::Hour),
 ];
 
 /// SI prefixes accepted in a record. `u`, `µ` (micro sign) and `μ` (Greek mu) all mean micro.

@@ -3,6 +3,7 @@
 //! it is deterministic (no clocks, no hash-map order) and never panics on a validated
 //! design.
 
+pub mod bridge_leg;
 pub mod dc_source;
 pub mod filter;
 pub mod filter_stress;

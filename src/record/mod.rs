@@ -5,6 +5,7 @@
 //! tree with a [`reader::Section`] per mapping, converting units at the edge.
 
 pub mod model;
+pub mod power_stage;
 pub mod reader;
 pub mod spans;
 
@@ -42,11 +43,24 @@ pub fn load_file(path: &Path) -> Result<Record, Diagnostics> {
             width: 1,
         }])
     })?;
-    load_str(&name, &text)
+    let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
+    load_str_with(&name, &text, &reader::FolderIncludes(folder))
 }
 
-/// Parses and validates record text; `name` is used in messages.
+/// Parses and validates record text; `name` is used in messages. A record that names a
+/// device library cannot be read this way: see [`load_str_with`].
 pub fn load_str(name: &str, text: &str) -> Result<Record, Diagnostics> {
+    load_str_with(name, text, &reader::NoIncludes)
+}
+
+/// Parses and validates record text, reading the files it includes through `includes`.
+/// The returned document has every included value in place of its reference, so that
+/// the canonical record (and its hash) covers the device data too.
+pub fn load_str_with(
+    name: &str,
+    text: &str,
+    includes: &dyn reader::Includes,
+) -> Result<Record, Diagnostics> {
     let source = SourceText {
         name: name.to_string(),
         text: text.to_string(),
@@ -55,9 +69,14 @@ pub fn load_str(name: &str, text: &str) -> Result<Record, Diagnostics> {
         Ok(v) => v,
         Err(e) => return Err(Diagnostics(syntax_errors(&source, &e))),
     };
-    let reader = Reader::new(&source);
+    let reader = Reader::with_includes(&source, includes);
     let design = reader.root(&document).and_then(|root| read_design(root));
+    let resolved = reader.resolved();
     let (errors, inputs) = reader.into_parts();
+    let mut document = document;
+    for (key, value) in resolved {
+        splice(&mut document, &key, value);
+    }
     match design {
         Some(mut design) if errors.is_empty() => {
             design.inputs = inputs;
@@ -75,6 +94,29 @@ pub fn load_str(name: &str, text: &str) -> Result<Record, Diagnostics> {
             "internal error: the record was rejected without a reason, please report",
         )])),
         _ => Err(Diagnostics(errors)),
+    }
+}
+
+/// Puts `value` at the dotted `key` of a document of mappings.
+fn splice(document: &mut serde_yaml::Value, key: &str, value: serde_yaml::Value) {
+    let mut at = document;
+    let parts: Vec<&str> = key.split('.').collect();
+    for (i, part) in parts.iter().enumerate() {
+        let serde_yaml::Value::Mapping(m) = at else {
+            return;
+        };
+        let k = serde_yaml::Value::String((*part).to_string());
+        if i + 1 == parts.len() {
+            m.insert(k, value);
+            // The device now stands written out; its library reference goes with it, so
+            // that the canonical record reads back on its own.
+            m.remove("library");
+            return;
+        }
+        match m.get_mut(&k) {
+            Some(next) => at = next,
+            None => return,
+        }
     }
 }
 
@@ -205,6 +247,26 @@ fn read_design(root: Section) -> Option<Design> {
     let bridge = root.section("bridge").and_then(read_bridge);
     let filter = root.section("filter").and_then(read_filter);
     let spectrum = read_spectrum(root.optional_section("spectrum"));
+    let switches = root
+        .optional_section("switches")
+        .map(power_stage::read_switches);
+    let thermal = root
+        .optional_section("thermal")
+        .map(power_stage::read_thermal);
+    let dc_link = root
+        .optional_section("dc_link")
+        .map(power_stage::read_dc_link);
+    let losses = power_stage::read_losses(root.optional_section("losses"));
+    if switches.is_some() && thermal.is_none() {
+        r.error(
+            "switches",
+            "the switches' losses need their thermal path: `thermal` is missing",
+            Some(
+                "add `thermal:` with `ambient_max`, `case_to_heatsink` and `heatsink_to_ambient`"
+                    .into(),
+            ),
+        );
+    }
     let limits = read_limits(root.optional_section("limits"));
     let assumptions = read_assumptions(&root);
     let notes = root.optional_text("notes");
@@ -218,6 +280,10 @@ fn read_design(root: Section) -> Option<Design> {
         bridge: bridge?,
         filter: filter?,
         spectrum,
+        switches: switches.map(|s| s.ok_or(())).transpose().ok()?,
+        thermal: thermal.map(|s| s.ok_or(())).transpose().ok()?,
+        dc_link: dc_link.map(|s| s.ok_or(())).transpose().ok()?,
+        losses: losses?,
         limits: limits?,
         assumptions,
         notes,
@@ -1035,6 +1101,48 @@ fn read_limits(section: Option<Section>) -> Option<Limits> {
         ),
         max_voltage_thd: s.and_then(|s| s.optional_quantity("max_voltage_thd", Unit::Percent)),
         max_voltage_harmonic: s.and_then(|s| s.optional_quantity("max_voltage_harmonic", Unit::Percent)),
+        max_voltage_utilisation: limit(
+            s,
+            "max_voltage_utilisation",
+            Unit::Percent,
+            0.80,
+            "the peak blocking voltage, overshoot included, at most 80 % of the device rating, leaving room for transients and cosmic-ray failure rates that rise steeply near the rating",
+        ),
+        max_current_utilisation: limit(
+            s,
+            "max_current_utilisation",
+            Unit::Percent,
+            0.80,
+            "the peak device current, ripple included, at most 80 % of the continuous current rating",
+        ),
+        min_junction_margin: limit(
+            s,
+            "min_junction_margin",
+            Unit::Kelvin,
+            20.0,
+            "the hottest junction at least 20 K below its maximum at the highest ambient, for tolerances of losses and thermal resistances",
+        ),
+        min_capacitor_life: limit(
+            s,
+            "min_capacitor_life",
+            Unit::Hour,
+            50_000.0 * 3600.0,
+            "an expected DC-link life of at least 50 000 h, about ten years at 14 h of operation a day",
+        ),
+        safe_touch_voltage: limit(
+            s,
+            "safe_touch_voltage",
+            Unit::Volt,
+            60.0,
+            "60 V DC taken as safe to touch in dry conditions (the ES1 DC limit of IEC 62368-1, from memory)",
+        ),
+        max_discharge_time: limit(
+            s,
+            "max_discharge_time",
+            Unit::Second,
+            300.0,
+            "the bus below the safe touch voltage within 5 minutes, the waiting time commonly marked on inverter enclosures",
+        ),
     };
     if let Some(s) = s {
         let r = s.reader();
@@ -1051,7 +1159,49 @@ fn read_limits(section: Option<Section>) -> Option<Limits> {
                 "a voltage distortion limit is a percentage of the fundamental above 0 %",
             );
         }
-        let bounds: [(&Limit, f64, f64, Unit, &str); 8] = [
+        let bounds: [(&Limit, f64, f64, Unit, &str); 14] = [
+            (
+                &limits.max_voltage_utilisation,
+                0.0,
+                1.0,
+                Unit::Percent,
+                "the voltage utilisation is a fraction of the rating above 0 % and at most 100 %",
+            ),
+            (
+                &limits.max_current_utilisation,
+                0.0,
+                2.0,
+                Unit::Percent,
+                "the current utilisation is a fraction of the rating above 0 % and at most 200 %",
+            ),
+            (
+                &limits.min_junction_margin,
+                -1e-30,
+                150.0,
+                Unit::Kelvin,
+                "the junction margin is 0 K or more, e.g. `20 K`",
+            ),
+            (
+                &limits.min_capacitor_life,
+                0.0,
+                1e6 * 3600.0,
+                Unit::Hour,
+                "the life target is in hours, e.g. `50000 h`",
+            ),
+            (
+                &limits.safe_touch_voltage,
+                0.0,
+                1000.0,
+                Unit::Volt,
+                "the safe touch voltage is a few tens of volts, e.g. `60 V`",
+            ),
+            (
+                &limits.max_discharge_time,
+                0.0,
+                3600.0,
+                Unit::Second,
+                "the discharge time limit is a few seconds to a few minutes, e.g. `300 s`",
+            ),
             (
                 &limits.max_system_voltage,
                 0.0,

@@ -244,6 +244,106 @@ pub struct SpectrumSettings {
     pub max_order: Option<Given>,
 }
 
+/// A power semiconductor as its datasheet gives it; every value entered by the user.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Device {
+    /// The name it is known by in the record or its library.
+    pub name: String,
+    /// Where its data was written: `None` inline in the record, else the library file
+    /// as the record names it.
+    pub library: Option<String>,
+    pub kind: DeviceKind,
+    /// Blocking voltage rating (V_CES or V_DSS).
+    pub voltage_rating: Given,
+    /// Continuous current rating at the datasheet's case temperature.
+    pub current_rating: Given,
+    /// Turn-on and turn-off energy of the switch at the reference point.
+    pub e_on: Given,
+    pub e_off: Given,
+    /// Reverse-recovery energy of the antiparallel or body diode at the reference point.
+    pub e_rec: Given,
+    pub reference_voltage: Given,
+    pub reference_current: Given,
+    /// Diode forward threshold and slope resistance.
+    pub diode_v_f0: Given,
+    pub diode_r_f: Given,
+    /// Junction-to-case thermal resistances of the switch and of its diode.
+    pub r_th_jc_switch: Given,
+    pub r_th_jc_diode: Given,
+    pub t_j_max: Given,
+    /// Current fall time at turn-off, for the overshoot of a stray inductance.
+    pub fall_time: Option<Given>,
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub enum DeviceKind {
+    /// IGBT with antiparallel diode: on-state threshold and slope resistance.
+    Igbt { v_ce0: Given, r_ce: Given },
+    /// MOSFET conducting in both directions (synchronous), its body diode in the dead
+    /// time: on-resistance at 25 degC and its relative rise per kelvin.
+    Mosfet {
+        r_ds_on: Given,
+        r_ds_on_coefficient: Given,
+    },
+}
+
+/// How the overshoot at turn-off is obtained.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Overshoot {
+    /// A margin on the DC maximum, as a fraction.
+    Margin(Given),
+    /// The commutation loop's stray inductance, with the device's fall time.
+    StrayInductance(Given),
+}
+
+/// The bridge's switches: every position of every leg carries the same device.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Switches {
+    pub device: Device,
+    pub overshoot: Overshoot,
+    /// Dead time between the two switches of a leg.
+    pub dead_time: Option<Given>,
+}
+
+/// The thermal path of the bridge: each switch with its diode in one package on one
+/// shared heatsink.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Thermal {
+    /// The highest ambient (air at the heatsink's inlet).
+    pub ambient_max: Given,
+    /// Case to heatsink, per package (interface material).
+    pub r_th_cs: Given,
+    /// Heatsink to ambient, for the whole heatsink.
+    pub r_th_sa: Given,
+}
+
+/// The DC-link capacitor bank.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DcLink {
+    /// The bank across the DC bus; for a half-bridge, each of the two split halves.
+    pub capacitance: Given,
+    /// Equivalent series resistance of the bank (each half for a half-bridge).
+    pub esr: Given,
+    /// Voltage rating of the bank (of each half for a half-bridge).
+    pub voltage_rating: Given,
+    /// Hot spot to ambient, for the bank.
+    pub r_th_ha: Given,
+    /// Rated life at the rated hot-spot temperature (datasheet).
+    pub rated_life: Given,
+    pub rated_temperature: Given,
+    /// Resistance across the whole DC bus that discharges it.
+    pub bleeder: Given,
+}
+
+/// Losses beside the semiconductors' and the DC link's.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OtherLosses {
+    /// Series resistance of each filter inductor (winding, per phase).
+    pub inductor_resistance: Option<Given>,
+    /// Control, gate drive, fans and measurement: taken as constant.
+    pub auxiliary_power: Option<Given>,
+}
+
 /// Design limits; each either written in the record or a stated common-practice default.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Limits {
@@ -261,6 +361,18 @@ pub struct Limits {
     /// for the output voltage.
     pub max_voltage_thd: Option<Given>,
     pub max_voltage_harmonic: Option<Given>,
+    /// Peak blocking voltage as a fraction of the device rating.
+    pub max_voltage_utilisation: Limit,
+    /// Peak device current as a fraction of its continuous rating.
+    pub max_current_utilisation: Limit,
+    /// Least distance of the hottest junction below its maximum.
+    pub min_junction_margin: Limit,
+    /// Least expected DC-link capacitor life.
+    pub min_capacitor_life: Limit,
+    /// DC voltage taken as safe to touch once the bus has discharged.
+    pub safe_touch_voltage: Limit,
+    /// Longest time the bleeder may take to bring the bus to that voltage.
+    pub max_discharge_time: Limit,
 }
 
 /// One limit and where it comes from.
@@ -298,6 +410,10 @@ pub struct Design {
     pub bridge: Bridge,
     pub filter: Filter,
     pub spectrum: SpectrumSettings,
+    pub switches: Option<Switches>,
+    pub thermal: Option<Thermal>,
+    pub dc_link: Option<DcLink>,
+    pub losses: OtherLosses,
     pub limits: Limits,
     pub assumptions: Vec<Assumption>,
     /// Markdown.

@@ -9,22 +9,89 @@ use crate::units::{input_symbol, parse_value, Unit, UnitError};
 use serde_yaml::{Mapping, Value};
 use std::cell::RefCell;
 
+/// Reads the files a record includes by name (device libraries). Behind a trait so
+/// that tests and in-memory builds can supply them without a file system.
+pub trait Includes {
+    /// The text of the file `name` as the record writes it, or why it cannot be read.
+    fn read(&self, name: &str) -> Result<String, String>;
+}
+
+/// No included files: a record given as text alone.
+pub struct NoIncludes;
+
+impl Includes for NoIncludes {
+    fn read(&self, _name: &str) -> Result<String, String> {
+        Err("a record given as text cannot include other files".into())
+    }
+}
+
+/// Included files are read from the record's own folder.
+pub struct FolderIncludes(pub std::path::PathBuf);
+
+impl Includes for FolderIncludes {
+    fn read(&self, name: &str) -> Result<String, String> {
+        std::fs::read_to_string(self.0.join(name)).map_err(|e| e.to_string())
+    }
+}
+
 /// Shared state of one record's validation.
 pub struct Reader<'a> {
     pub src: &'a SourceText,
     spans: Spans,
     errors: RefCell<Vec<Diagnostic>>,
     inputs: RefCell<Vec<InputLine>>,
+    /// Put before every key of a [`Given`] and an input line: empty for the record,
+    /// `file:` for an included library.
+    prefix: String,
+    includes: &'a dyn Includes,
+    /// Values taken from included files, by the record key they stand in for, so that
+    /// the canonical record carries them.
+    resolved: RefCell<Vec<(String, Value)>>,
 }
 
 impl<'a> Reader<'a> {
     pub fn new(src: &'a SourceText) -> Reader<'a> {
+        Reader::with_includes(src, &NoIncludes)
+    }
+
+    pub fn with_includes(src: &'a SourceText, includes: &'a dyn Includes) -> Reader<'a> {
         Reader {
             src,
             spans: Spans::index(&src.text),
             errors: RefCell::new(Vec::new()),
             inputs: RefCell::new(Vec::new()),
+            prefix: String::new(),
+            includes,
+            resolved: RefCell::new(Vec::new()),
         }
+    }
+
+    /// A reader for an included file, whose keys are written `file:path`.
+    pub fn included(src: &'a SourceText) -> Reader<'a> {
+        Reader {
+            prefix: format!("{}:", src.name),
+            ..Reader::new(src)
+        }
+    }
+
+    pub fn includes(&self) -> &'a dyn Includes {
+        self.includes
+    }
+
+    /// Takes over the errors and input lines of an included file's reader.
+    pub fn absorb(&self, other: Reader<'_>) {
+        let (errors, inputs) = other.into_parts();
+        self.errors.borrow_mut().extend(errors);
+        self.inputs.borrow_mut().extend(inputs);
+    }
+
+    /// Notes that `key` of the record stands for `value` taken from an included file.
+    pub fn resolve(&self, key: &str, value: Value) {
+        self.resolved.borrow_mut().push((key.to_string(), value));
+    }
+
+    pub fn resolved(&self) -> Vec<(String, Value)> {
+        self.resolved.borrow().clone()
     }
 
     fn span(&self, path: &str) -> Span {
@@ -42,6 +109,8 @@ impl<'a> Reader<'a> {
 
     /// Adds an error at the value of `path`.
     pub fn error(&self, path: &str, message: impl Into<String>, hint: Option<String>) {
+        // A Given of an included file carries the file in its key; its place does not.
+        let path = path.strip_prefix(self.prefix.as_str()).unwrap_or(path);
         let s = self.span(path);
         let mut d = self.src.at(s.line, s.column, s.width, path, message);
         d.hint = hint;
@@ -85,6 +154,11 @@ impl<'a> Reader<'a> {
         self.errors.borrow_mut().push(d);
     }
 
+    /// Adds a diagnostic made elsewhere (a syntax error of an included file).
+    pub fn push(&self, d: Diagnostic) {
+        self.errors.borrow_mut().push(d);
+    }
+
     pub fn has_errors(&self) -> bool {
         !self.errors.borrow().is_empty()
     }
@@ -95,7 +169,7 @@ impl<'a> Reader<'a> {
 
     fn note_input(&self, path: &str, text: String) {
         self.inputs.borrow_mut().push(InputLine {
-            key: path.to_string(),
+            key: format!("{}{path}", self.prefix),
             text,
             line: self.line(path),
         });
@@ -159,6 +233,9 @@ fn example(key: &str, unit: Unit) -> &'static str {
         "damping" | "max_resonance_fraction" => return "0.5",
         "min_light_load_damping" => return "0.02",
         "light_load" => return "10 %",
+        "r_ds_on_coefficient" => return "0.6 %/K",
+        "max_voltage_utilisation" | "max_current_utilisation" => return "80 %",
+        "overshoot" => return "10 %",
         _ => {}
     }
     match unit {
@@ -173,6 +250,11 @@ fn example(key: &str, unit: Unit) -> &'static str {
         Unit::Percent => "5 %",
         Unit::One => "0.95",
         Unit::Second => "10 ms",
+        Unit::KelvinPerWatt => "0.5 K/W",
+        Unit::Hour => "5000 h",
+        Unit::Joule => "1.2 mJ",
+        Unit::PercentPerKelvin => "-0.3 %/K",
+        Unit::Kelvin => "20 K",
         _ => "1",
     }
 }
@@ -206,6 +288,25 @@ impl<'r, 'a> Section<'r, 'a> {
     fn raw(&self, key: &'static str) -> Option<&'r Value> {
         self.known.borrow_mut().push(key);
         self.map.get(key).filter(|v| !v.is_null())
+    }
+
+    /// The value written at `key`, unconverted (marks it known); `None` if absent.
+    pub fn value(&self, key: &'static str) -> Option<&'r Value> {
+        self.raw(key)
+    }
+
+    /// A nested mapping under a key chosen by the record (a name), not marked known.
+    pub fn named_section(&self, name: &str) -> Option<Section<'r, 'a>> {
+        let v = self.map.get(name).filter(|v| !v.is_null())?;
+        self.as_section(name, v)
+    }
+
+    /// The keys of this mapping that are texts, in written order.
+    pub fn key_names(&self) -> Vec<String> {
+        self.map
+            .keys()
+            .filter_map(|k| k.as_str().map(str::to_string))
+            .collect()
     }
 
     /// Whether the record writes this key (and marks it known).
@@ -416,7 +517,7 @@ impl<'r, 'a> Section<'r, 'a> {
                 Some(Given {
                     value,
                     line: self.reader.line(&path),
-                    key: path,
+                    key: format!("{}{path}", self.reader.prefix),
                 })
             }
             Ok(_) => {
