@@ -50,10 +50,11 @@ fn main() {
     for path in &names {
         let text = std::fs::read_to_string(path).expect("read design");
         let name = path.file_name().unwrap().to_string_lossy().to_string();
+        let parts = record::reader::FolderIncludes(path.parent().unwrap().to_path_buf());
         let check: Vec<Duration> = (0..CHECK_RUNS)
             .map(|_| {
                 let t = Instant::now();
-                let rec = record::load_str(&name, &text).expect("demo is valid");
+                let rec = record::load_str_with(&name, &text, &parts).expect("demo is valid");
                 let sheet = calc::evaluate(&rec.design);
                 std::hint::black_box(&sheet);
                 t.elapsed()
@@ -62,7 +63,7 @@ fn main() {
         let mut pages = 0;
         let mut build = |text: &str| {
             let t = Instant::now();
-            let rec = record::load_str(&name, text).expect("demo is valid");
+            let rec = record::load_str_with(&name, text, &parts).expect("demo is valid");
             let sheet = calc::evaluate(&rec.design);
             let built = package::build(&rec, &sheet, &templates, &out).expect("build");
             pages = built.pages;

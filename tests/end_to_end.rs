@@ -115,7 +115,7 @@ fn every_demo_builds_a_package() {
         assert_eq!(o.status.code(), Some(want), "{name}: {}", stderr(&o));
         let text = stdout(&o);
         assert!(text.contains("package.pdf"), "{name}: {text}");
-        let rec = bridgebook::record::load_str(&name, &common::demo(&name)).unwrap();
+        let rec = common::load_named(&name, &common::demo(&name));
         let dir = out
             .join(&rec.design.project.id)
             .join(&rec.design.project.revision);
@@ -196,7 +196,7 @@ fn every_demo_builds_a_package() {
 #[test]
 fn the_package_has_every_section() {
     let name = "ridge-pump-b.yaml";
-    let rec = bridgebook::record::load_str(name, &common::demo(name)).unwrap();
+    let rec = common::load_named(name, &common::demo(name));
     let sheet = bridgebook::calc::evaluate(&rec.design);
     let templates = bridgebook::report::Templates::builtin();
     let stamp = bridgebook::package::stamp(&rec, &templates);
@@ -249,7 +249,7 @@ fn a_template_without_cautions_still_gets_them() {
     );
     let templates = bridgebook::report::Templates::from_dir(&tdir).unwrap();
     let name = "alder-hut.yaml";
-    let rec = bridgebook::record::load_str(name, &common::demo(name)).unwrap();
+    let rec = common::load_named(name, &common::demo(name));
     let sheet = bridgebook::calc::evaluate(&rec.design);
     let stamp = bridgebook::package::stamp(&rec, &templates);
     let r = bridgebook::report::render(&rec, &sheet, &stamp, &templates).expect("render");
@@ -364,7 +364,7 @@ fn a_failing_check_exits_1_and_still_writes_a_marked_package() {
 fn revisions_a_and_b_differ_where_the_record_changed() {
     // Demo revision pair: B raised f_sw from 16 to 20 kHz and C from 6.8 to 10 uF.
     let eval = |name: &str| {
-        let rec = bridgebook::record::load_str(name, &common::demo(name)).unwrap();
+        let rec = common::load_named(name, &common::demo(name));
         (bridgebook::calc::evaluate(&rec.design), rec)
     };
     let (a, ra) = eval("ridge-pump-a.yaml");

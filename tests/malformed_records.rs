@@ -53,7 +53,7 @@ fn output_of(o: Output) -> (Option<i32>, String, String) {
 
 /// Writes `text` as a record into a fresh temp dir and runs `bridgebook <command>` on it.
 fn run_on(command: &str, text: &str) -> Run {
-    let dir = Scratch::new("malformed");
+    let dir = Scratch::new("malformed").with_parts();
     let file = dir.path().join("design.yaml");
     std::fs::write(&file, text).expect("write record");
     let out = dir.path().join("out");
@@ -67,7 +67,7 @@ fn run_on(command: &str, text: &str) -> Run {
         .expect("list temp dir")
         .filter_map(|e| e.ok())
         .map(|e| e.file_name().to_string_lossy().to_string())
-        .filter(|n| n != "design.yaml")
+        .filter(|n| n != "design.yaml" && n != "parts")
         .collect();
     Run {
         code,

@@ -4,17 +4,22 @@
 //! design.
 
 pub mod bridge_leg;
+pub mod dc_link;
 pub mod dc_source;
+pub mod efficiency;
 pub mod filter;
 pub mod filter_stress;
 pub mod grid_filter;
 pub mod lcl_design;
+pub mod leg_current;
 pub mod modulation;
 pub mod operating_point;
 pub mod output_quality;
 pub mod ripple;
+pub mod semiconductor;
 pub mod spectrum;
 pub mod switching;
+pub mod thermal;
 
 use crate::record::{Design, Given, Limit};
 use crate::sheet::{Sheet, Source};
@@ -33,6 +38,10 @@ pub fn evaluate(design: &Design) -> Sheet {
     let spectra = switching::evaluate(design, &mut sheet);
     output_quality::evaluate(design, &mut sheet, &spectra);
     filter_stress::evaluate(design, &mut sheet, &spectra);
+    semiconductor::evaluate(design, &mut sheet);
+    thermal::evaluate(design, &mut sheet);
+    dc_link::evaluate(design, &mut sheet);
+    efficiency::evaluate(design, &mut sheet);
     sheet
 }
 

@@ -15,9 +15,15 @@
 //!   for plotting the limit under a spectrum.
 //! - [`ieee519`]: IEEE Std 519-2014, Table 1, voltage distortion at the point of common
 //!   coupling by bus voltage: [`ieee519_voltage_limits`].
+//! - [`efficiency`]: the California Energy Commission's and the European (EN 50530)
+//!   load-point weightings of efficiency.
+//! - [`nec`]: NFPA 70, 240.6(A) standard overcurrent device ratings and the 125 %
+//!   continuous-current factor.
 
+pub mod efficiency;
 pub mod ieee1547;
 pub mod ieee519;
+pub mod nec;
 
 pub use ieee1547::{ieee1547_current_limit, ieee1547_mask, ieee1547_trd_limit, HarmonicLimit};
 pub use ieee519::{ieee519_voltage_limits, VoltageLimits};

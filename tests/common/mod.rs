@@ -23,6 +23,18 @@ impl Scratch {
         &self.0
     }
 
+    /// Copies the demos' device library (`designs/parts/`) into the folder, so that a
+    /// demo record written here finds it.
+    pub fn with_parts(self) -> Scratch {
+        let from = Path::new(env!("CARGO_MANIFEST_DIR")).join("designs/parts");
+        let to = self.0.join("parts");
+        std::fs::create_dir_all(&to).expect("create parts dir");
+        for e in std::fs::read_dir(from).expect("designs/parts").flatten() {
+            std::fs::copy(e.path(), to.join(e.file_name())).expect("copy library");
+        }
+        self
+    }
+
     /// Writes a file into the folder and returns its path.
     pub fn write(&self, name: &str, text: &str) -> PathBuf {
         let p = self.0.join(name);
@@ -53,10 +65,23 @@ pub fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).to_string()
 }
 
-/// Loads a record text (it must be valid) and evaluates it.
+/// Loads a record text (it must be valid) and evaluates it; device libraries are read
+/// from `designs/`, as for the demos.
 pub fn evaluate(text: &str) -> bridgebook::sheet::Sheet {
-    let rec = bridgebook::record::load_str("test.yaml", text).unwrap_or_else(|e| panic!("{e}"));
-    bridgebook::calc::evaluate(&rec.design)
+    bridgebook::calc::evaluate(&load(text).design)
+}
+
+/// Loads a record text (it must be valid), reading its libraries from `designs/`.
+pub fn load(text: &str) -> bridgebook::record::Record {
+    load_named("test.yaml", text)
+}
+
+/// As [`load`], with the name the messages give the record.
+pub fn load_named(name: &str, text: &str) -> bridgebook::record::Record {
+    let designs = bridgebook::record::reader::FolderIncludes(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("designs"),
+    );
+    bridgebook::record::load_str_with(name, text, &designs).unwrap_or_else(|e| panic!("{e}"))
 }
 
 /// `text` with `from` replaced by `to`; panics unless `from` stands in it exactly

@@ -1,0 +1,753 @@
+//! The bridge's switches: device data from the record (or its device library), the
+//! voltage and current stresses with their derating checks, and the losses of each
+//! switch position at every DC point at rated load, integrated numerically over the
+//! fundamental period ([`super::bridge_leg`]) with the closed forms as a cross-check.
+//! A MOSFET's losses are taken at the junction temperature they produce at the
+//! highest ambient ([`super::thermal::StageModel::operate`]).
+
+use super::bridge_leg::{closed_form_losses, position_losses, position_rms};
+use super::leg_current::leg_point;
+use super::modulation::{short, DC_POINTS};
+use super::thermal::StageModel;
+use super::{given, limit_quantity, limit_source};
+use crate::record::{Design, DeviceKind, Overshoot, Pwm};
+use crate::sheet::{Relation, Sheet, Source};
+use crate::units::Unit;
+
+/// The relative agreement asked of the numerical and closed-form conduction losses at
+/// DC nominal: both are averages of the same duty and current, so any larger gap is an
+/// error in one of them.
+pub const CROSSCHECK_TOLERANCE: f64 = 0.01;
+
+pub fn evaluate(d: &Design, s: &mut Sheet) {
+    let (Some(sw), Some(model)) = (&d.switches, StageModel::of(d)) else {
+        return;
+    };
+    let dev = &sw.device;
+    let mosfet = matches!(dev.kind, DeviceKind::Mosfet { .. });
+    let v_rat = given(
+        s,
+        "semi.v_rating",
+        "Device blocking voltage rating",
+        "V_\"rat\"",
+        &dev.voltage_rating,
+        Unit::Volt,
+    );
+    let i_rat = given(
+        s,
+        "semi.i_rating",
+        "Device continuous current rating",
+        "I_\"rat\"",
+        &dev.current_rating,
+        Unit::Ampere,
+    );
+    match &dev.kind {
+        DeviceKind::Igbt { v_ce0, r_ce } => {
+            given(
+                s,
+                "semi.v_ce0",
+                "IGBT on-state threshold voltage",
+                "V_\"CE0\"",
+                v_ce0,
+                Unit::Volt,
+            );
+            given(
+                s,
+                "semi.r_ce",
+                "IGBT on-state slope resistance",
+                "r_\"CE\"",
+                r_ce,
+                Unit::Ohm,
+            );
+        }
+        DeviceKind::Mosfet {
+            r_ds_on,
+            r_ds_on_coefficient,
+        } => {
+            given(
+                s,
+                "semi.r_ds_on",
+                "MOSFET on-resistance at 25 °C",
+                "R_\"DS,25\"",
+                r_ds_on,
+                Unit::Ohm,
+            );
+            given(
+                s,
+                "semi.r_ds_on_coefficient",
+                "Rise of R_ds,on per kelvin",
+                "alpha_R",
+                r_ds_on_coefficient,
+                Unit::PercentPerKelvin,
+            );
+        }
+    }
+    given(
+        s,
+        "semi.e_on",
+        "Turn-on energy at the reference point",
+        "E_\"on\"",
+        &dev.e_on,
+        Unit::Joule,
+    );
+    given(
+        s,
+        "semi.e_off",
+        "Turn-off energy at the reference point",
+        "E_\"off\"",
+        &dev.e_off,
+        Unit::Joule,
+    );
+    given(
+        s,
+        "semi.e_rec",
+        "Diode recovery energy at the reference point",
+        "E_\"rec\"",
+        &dev.e_rec,
+        Unit::Joule,
+    );
+    given(
+        s,
+        "semi.v_ref",
+        "Reference voltage of the switching energies",
+        "V_\"ref\"",
+        &dev.reference_voltage,
+        Unit::Volt,
+    );
+    given(
+        s,
+        "semi.i_ref",
+        "Reference current of the switching energies",
+        "I_\"ref\"",
+        &dev.reference_current,
+        Unit::Ampere,
+    );
+    given(
+        s,
+        "semi.v_f0",
+        "Diode threshold voltage",
+        "V_\"F0\"",
+        &dev.diode_v_f0,
+        Unit::Volt,
+    );
+    given(
+        s,
+        "semi.r_f",
+        "Diode slope resistance",
+        "r_\"F\"",
+        &dev.diode_r_f,
+        Unit::Ohm,
+    );
+    if let Some(t) = &sw.dead_time {
+        given(s, "semi.t_dead", "Dead time", "t_d", t, Unit::Second);
+    }
+    let legs = super::switching::modulation_of(d).legs();
+    s.derive(
+        "semi.positions",
+        "Switch positions (a switch with its diode), two per leg",
+        "N_\"pos\"",
+        Unit::One,
+    )
+    .formula(&format!("2 dot {legs}"))
+    .value(2.0 * legs as f64);
+
+    stresses(d, s, sw, v_rat, i_rat);
+
+    // The leg current and its angle at the switch node, rated load.
+    let i_l1 = s.value("filter.i_l_f1");
+    s.derive(
+        "semi.i_leg",
+        "Leg current, peak of the fundamental, rated load",
+        "I_\"leg\"",
+        Unit::Ampere,
+    )
+    .formula("sqrt(2) I_(L,1)")
+    .inputs(&["filter.i_l_f1"])
+    .value(2f64.sqrt() * i_l1);
+    angle(d, s);
+
+    let t_a = d.thermal.as_ref().map_or(25.0, |t| t.ambient_max.value);
+    let third = d.bridge.pwm == Pwm::ThirdHarmonic;
+    let duty = |m: &str| {
+        if third {
+            format!("(1 + {m} (sin theta + sin 3 theta / 6)) / 2")
+        } else {
+            format!("(1 + {m} sin theta) / 2")
+        }
+    };
+    let current = "quad i = I_\"leg\" sin(theta - phi_\"sw\")";
+    let integral = || {
+        Source::common_practice(
+            "average over the fundamental period of the local duty cycle times the device's conduction or switching loss at the local current (sine-triangle PWM, current constant over a carrier period), integrated numerically",
+        )
+    };
+    let scaling = || {
+        Source::common_practice(
+            "switching energies scaled from the datasheet's reference point linearly in voltage and current, per carrier period, integrated numerically over the half period the device commutates",
+        )
+    };
+    for (key, label, dc_id) in DC_POINTS {
+        let sh = short(key);
+        let m_id = format!("modulation.m_a.{key}");
+        let (m_sym, v_sym) = (s.symbol(&m_id), s.symbol(dc_id));
+        let a = leg_point(d, s, key, 1.0);
+        let (t_j, _, _) = model.operate(&a, t_a);
+        let dev_at = model.device_at(t_j);
+        let l = position_losses(&a, &dev_at);
+        let cf = closed_form_losses(&a, &dev_at);
+        let r_id = format!("semi.r_ds_on_hot.{key}");
+        let (cond_t, cond_d, cond_inputs): (String, String, Vec<String>) = if mosfet {
+            s.derive(&format!("semi.t_j_est.{key}"), &format!("Switch junction temperature the losses are taken at, {label}"), &format!("T_(j,\"est,{sh}\")"), Unit::DegreeCelsius)
+                .formula("\"losses and junction temperature solved together\"")
+                .source(Source::common_practice("the fixed point of losses and junction temperature at the highest ambient, iterated until it moves less than 0.001 K (the thermal network of this package)"))
+                .value(t_j);
+            s.derive(
+                &r_id,
+                &format!("MOSFET on-resistance at its junction temperature, {label}"),
+                &format!("R_(\"DS\",\"{sh}\")"),
+                Unit::Ohm,
+            )
+            .formula(&format!(
+                "R_\"DS,25\" (1 + alpha_R (T_(j,\"est,{sh}\") - 25 °C))"
+            ))
+            .inputs(&[
+                "semi.r_ds_on",
+                "semi.r_ds_on_coefficient",
+                &format!("semi.t_j_est.{key}"),
+            ])
+            .source(Source::common_practice(
+                "on-resistance rising linearly with junction temperature from its 25 °C value",
+            ))
+            .value(match dev_at.channel {
+                super::bridge_leg::Channel::Mosfet { r } => r,
+                super::bridge_leg::Channel::Igbt { .. } => f64::NAN,
+            });
+            let dead = if sw.dead_time.is_some() {
+                " - 2 t_d f_\"sw\""
+            } else {
+                ""
+            };
+            let diode = if sw.dead_time.is_some() {
+                format!("1 / (2 pi) integral_(i < 0) min({}, 2 t_d f_\"sw\") (V_\"F0\" abs(i) + r_\"F\" i^2) dif theta, {current}", duty(&m_sym))
+            } else {
+                "0".to_string()
+            };
+            let mut inputs: Vec<String> = vec![
+                r_id.clone(),
+                m_id.clone(),
+                "semi.i_leg".into(),
+                "semi.phi".into(),
+                "bridge.f_sw".into(),
+                "semi.v_f0".into(),
+                "semi.r_f".into(),
+            ];
+            if sw.dead_time.is_some() {
+                inputs.push("semi.t_dead".into());
+            }
+            (
+                format!("1 / (2 pi) integral_0^(2 pi) ({}{dead}) R_(\"DS\",\"{sh}\") i^2 dif theta, {current}", duty(&m_sym)),
+                diode,
+                inputs,
+            )
+        } else {
+            (
+                format!("1 / (2 pi) integral_(i > 0) {} (V_\"CE0\" i + r_\"CE\" i^2) dif theta, {current}", duty(&m_sym)),
+                format!("1 / (2 pi) integral_(i < 0) {} (V_\"F0\" abs(i) + r_\"F\" i^2) dif theta, {current}", duty(&m_sym)),
+                vec!["semi.v_ce0".into(), "semi.r_ce".into(), "semi.v_f0".into(), "semi.r_f".into(), m_id.clone(), "semi.i_leg".into(), "semi.phi".into()],
+            )
+        };
+        let used = |s: &Sheet, formula: &str| -> Vec<String> {
+            cond_inputs
+                .iter()
+                .filter(|id| formula_uses(s, formula, id))
+                .cloned()
+                .collect()
+        };
+        let ids = [
+            format!("semi.p_switch_cond.{key}"),
+            format!("semi.p_switch_sw.{key}"),
+            format!("semi.p_diode_cond.{key}"),
+            format!("semi.p_diode_rec.{key}"),
+        ];
+        let ti = used(s, &cond_t);
+        let ti: Vec<&str> = ti.iter().map(String::as_str).collect();
+        s.derive(
+            &ids[0],
+            &format!("Switch conduction loss, per position, {label}"),
+            &format!("P_(\"T,c\",\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&cond_t)
+        .inputs(&ti)
+        .source(integral())
+        .value(l.switch_conduction);
+        let sw_formula = format!("f_\"sw\" (E_\"on\" + E_\"off\") {v_sym} / V_\"ref\" 1 / (2 pi) integral_(i > 0) i / I_\"ref\" dif theta, {current}");
+        s.derive(
+            &ids[1],
+            &format!("Switch switching loss, per position, {label}"),
+            &format!("P_(\"T,s\",\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&sw_formula)
+        .inputs(&[
+            "bridge.f_sw",
+            "semi.e_on",
+            "semi.e_off",
+            dc_id,
+            "semi.v_ref",
+            "semi.i_ref",
+            "semi.i_leg",
+            "semi.phi",
+        ])
+        .source(scaling())
+        .value(l.switch_switching);
+        let di = used(s, &cond_d);
+        let di: Vec<&str> = di.iter().map(String::as_str).collect();
+        s.derive(
+            &ids[2],
+            &format!("Diode conduction loss, per position, {label}"),
+            &format!("P_(\"D,c\",\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&cond_d)
+        .inputs(&di)
+        .source(integral())
+        .value(l.diode_conduction);
+        let rec_formula = format!("f_\"sw\" E_\"rec\" {v_sym} / V_\"ref\" 1 / (2 pi) integral_(i < 0) abs(i) / I_\"ref\" dif theta, {current}");
+        s.derive(
+            &ids[3],
+            &format!("Diode recovery loss, per position, {label}"),
+            &format!("P_(\"D,r\",\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&rec_formula)
+        .inputs(&[
+            "bridge.f_sw",
+            "semi.e_rec",
+            dc_id,
+            "semi.v_ref",
+            "semi.i_ref",
+            "semi.i_leg",
+            "semi.phi",
+        ])
+        .source(scaling())
+        .value(l.diode_recovery);
+        let syms: Vec<String> = ids.iter().map(|id| s.symbol(id)).collect();
+        s.derive(
+            &format!("semi.p_switch.{key}"),
+            &format!("Switch loss, per position, {label}"),
+            &format!("P_(T,\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&format!("{} + {}", syms[0], syms[1]))
+        .inputs(&[&ids[0], &ids[1]])
+        .value(l.switch());
+        s.derive(
+            &format!("semi.p_diode.{key}"),
+            &format!("Diode loss, per position, {label}"),
+            &format!("P_(D,\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&format!("{} + {}", syms[2], syms[3]))
+        .inputs(&[&ids[2], &ids[3]])
+        .value(l.diode());
+        s.derive(
+            &format!("semi.p_position.{key}"),
+            &format!("Loss of one position (switch and diode), {label}"),
+            &format!("P_(\"pos\",\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&format!("P_(T,\"{sh}\") + P_(D,\"{sh}\")"))
+        .inputs(&[
+            &format!("semi.p_switch.{key}"),
+            &format!("semi.p_diode.{key}"),
+        ])
+        .value(l.total());
+        s.derive(
+            &format!("semi.p_bridge.{key}"),
+            &format!("Semiconductor loss of the bridge, {label}"),
+            &format!("P_(\"br\",\"{sh}\")"),
+            Unit::Watt,
+        )
+        .formula(&format!("N_\"pos\" P_(\"pos\",\"{sh}\")"))
+        .inputs(&["semi.positions", &format!("semi.p_position.{key}")])
+        .value(model.positions * l.total());
+
+        // Rms currents with the ripple of this DC point.
+        let ripple_id = format!("ripple.i_pp_max.{key}");
+        let ripple = s.get(&ripple_id).map_or(0.0, |q| q.value);
+        let (rms_t, rms_d) = position_rms(&a, mosfet, model.device.dead_time, ripple);
+        let mut rms_inputs = vec![m_id.as_str(), "semi.i_leg", "semi.phi"];
+        let ripple_term = if s.get(&ripple_id).is_some() {
+            rms_inputs.push(&ripple_id);
+            format!(" (i^2 + {}^2 / 12)", s.symbol(&ripple_id))
+        } else {
+            " i^2".to_string()
+        };
+        let rms_src = || {
+            Source::common_practice("rms over the fundamental period of the device's share of the leg current, with a triangular ripple of the DC point's largest peak-to-peak over each conduction interval")
+        };
+        s.derive(
+            &format!("semi.i_rms_switch.{key}"),
+            &format!("Switch rms current, {label}"),
+            &format!("I_(T,\"rms,{sh}\")"),
+            Unit::Ampere,
+        )
+        .formula(&format!(
+            "sqrt(1 / (2 pi) integral_(i > 0) {}{ripple_term} dif theta), {current}",
+            duty(&m_sym)
+        ))
+        .inputs(&rms_inputs)
+        .source(rms_src())
+        .value(rms_t);
+        s.derive(
+            &format!("semi.i_rms_diode.{key}"),
+            &format!("Diode rms current, {label}"),
+            &format!("I_(D,\"rms,{sh}\")"),
+            Unit::Ampere,
+        )
+        .formula(&format!(
+            "sqrt(1 / (2 pi) integral_(i < 0) {}{ripple_term} dif theta), {current}",
+            duty(&m_sym)
+        ))
+        .inputs(&rms_inputs)
+        .source(rms_src())
+        .value(rms_d);
+
+        if key == "nominal" {
+            crosscheck(d, s, mosfet, &m_sym, &m_id, &cf, &l, sw.dead_time.is_some());
+            if let Some(t) = &sw.dead_time {
+                let m = s.value(&m_id);
+                s.derive("semi.dead_time_error", "Dead-time error of the fundamental, DC nominal", "epsilon_d", Unit::Percent)
+                    .formula(&format!("8 t_d f_\"sw\" / (pi {m_sym})"))
+                    .inputs(&["semi.t_dead", "bridge.f_sw", &m_id])
+                    .source(Source::common_practice("a leg's average voltage error V_dc t_d f_sw with the sign of the current, a square wave whose fundamental 4/pi of it is compared with the leg's fundamental m_a V_dc / 2"))
+                    .value(8.0 * t.value * a.f_sw / (std::f64::consts::PI * m));
+            }
+        }
+    }
+}
+
+/// Whether a formula writes the symbol of quantity `id` (for inputs shared by forms).
+fn formula_uses(s: &Sheet, formula: &str, id: &str) -> bool {
+    let sym = s.symbol(id);
+    formula.contains(&sym)
+}
+
+fn stresses(d: &Design, s: &mut Sheet, sw: &crate::record::Switches, v_rat: f64, i_rat: f64) {
+    let v_max = s.value("dc.v_max");
+    let i_pk_id = if s.get("filter.i_l_peak").is_some() {
+        "filter.i_l_peak"
+    } else {
+        "filter.i_l_f1"
+    };
+    let i_pk = if i_pk_id == "filter.i_l_peak" {
+        s.value(i_pk_id)
+    } else {
+        2f64.sqrt() * s.value(i_pk_id)
+    };
+    let i_sym = s.symbol(i_pk_id);
+    let v_pk = match &sw.overshoot {
+        Overshoot::Margin(g) => {
+            let k = given(
+                s,
+                "semi.overshoot",
+                "Turn-off overshoot margin on the DC maximum",
+                "k_\"os\"",
+                g,
+                Unit::Percent,
+            );
+            s.derive(
+                "semi.v_peak",
+                "Peak blocking voltage, with overshoot",
+                "V_(T,\"pk\")",
+                Unit::Volt,
+            )
+            .formula("V_\"dc,max\" (1 + k_\"os\")")
+            .inputs(&["dc.v_max", "semi.overshoot"])
+            .value(v_max * (1.0 + k))
+        }
+        Overshoot::StrayInductance(g) => {
+            let l = given(
+                s,
+                "semi.l_stray",
+                "Commutation loop stray inductance",
+                "L_sigma",
+                g,
+                Unit::Henry,
+            );
+            let t_f = sw.device.fall_time.as_ref().map_or(f64::NAN, |f| f.value);
+            if let Some(f) = &sw.device.fall_time {
+                given(
+                    s,
+                    "semi.t_fall",
+                    "Current fall time at turn-off",
+                    "t_f",
+                    f,
+                    Unit::Second,
+                );
+            }
+            let peak_formula = if i_pk_id == "filter.i_l_peak" {
+                i_sym.clone()
+            } else {
+                format!("sqrt(2) {i_sym}")
+            };
+            s.derive("semi.v_peak", "Peak blocking voltage, with overshoot", "V_(T,\"pk\")", Unit::Volt)
+                .formula(&format!("V_\"dc,max\" + L_sigma {peak_formula} / t_f"))
+                .inputs(&["dc.v_max", "semi.l_stray", i_pk_id, "semi.t_fall"])
+                .source(Source::common_practice("overshoot L di/dt of the commutation loop with the peak current falling linearly in the fall time"))
+                .value(v_max + l * i_pk / t_f)
+        }
+    };
+    let i_formula = if i_pk_id == "filter.i_l_peak" {
+        i_sym
+    } else {
+        format!("sqrt(2) {i_sym}")
+    };
+    let l = &d.limits;
+    s.derive(
+        "semi.voltage_utilisation",
+        "Peak blocking voltage over the rating",
+        "u_V",
+        Unit::Percent,
+    )
+    .formula("V_(T,\"pk\") / V_\"rat\"")
+    .inputs(&["semi.v_peak", "semi.v_rating"])
+    .value(v_pk / v_rat);
+    s.derive(
+        "semi.current_utilisation",
+        "Peak device current over the continuous rating",
+        "u_I",
+        Unit::Percent,
+    )
+    .formula(&format!("{i_formula} / I_\"rat\""))
+    .inputs(&[i_pk_id, "semi.i_rating"])
+    .value(i_pk / i_rat);
+    let u_v = limit_quantity(
+        s,
+        "limits.max_voltage_utilisation",
+        "Largest voltage utilisation of a device",
+        "u_(V,max)",
+        &l.max_voltage_utilisation,
+        Unit::Percent,
+    );
+    let u_i = limit_quantity(
+        s,
+        "limits.max_current_utilisation",
+        "Largest current utilisation of a device",
+        "u_(I,max)",
+        &l.max_current_utilisation,
+        Unit::Percent,
+    );
+    s.check("check.semi.voltage", "The peak blocking voltage, overshoot included, stays within the derated device rating at the DC maximum", "semi.voltage_utilisation", Relation::AtMost, u_v, limit_source(&l.max_voltage_utilisation));
+    s.check(
+        "check.semi.current",
+        "The peak device current, ripple included, stays within the derated continuous rating",
+        "semi.current_utilisation",
+        Relation::AtMost,
+        u_i,
+        limit_source(&l.max_current_utilisation),
+    );
+}
+
+/// The displacement angle between the switch-node voltage and the leg current.
+fn angle(d: &Design, s: &mut Sheet) {
+    let (v_re, v_im, i_re, i_im) = if d.output.grid() {
+        let (i_re, i_im) = if s.get("filter.i_1_re").is_some() {
+            ("filter.i_1_re", "filter.i_1_im")
+        } else {
+            ("grid.i_re", "grid.i_im")
+        };
+        ("filter.v_sw_re", "filter.v_sw_im", i_re, i_im)
+    } else {
+        standalone_phasors(d, s);
+        ("semi.v_sw_re", "semi.v_sw_im", "semi.i_l_re", "semi.i_l_im")
+    };
+    let (vr, vi, ir, ii) = (s.value(v_re), s.value(v_im), s.value(i_re), s.value(i_im));
+    let (svr, svi, sir, sii) = (
+        s.symbol(v_re),
+        s.symbol(v_im),
+        s.symbol(i_re),
+        s.symbol(i_im),
+    );
+    s.derive(
+        "semi.phi",
+        "Angle of the leg current behind the switch-node voltage, rated load",
+        "phi_\"sw\"",
+        Unit::Degree,
+    )
+    .formula(&format!("arctan({svi} / {svr}) - arctan({sii} / {sir})"))
+    .inputs(&[v_re, v_im, i_re, i_im])
+    .value(vi.atan2(vr) - ii.atan2(ir));
+}
+
+/// Stand-alone: the inductor current and switch-node voltage phasors at rated load,
+/// with the output voltage real (the chain of `leg_current`).
+fn standalone_phasors(d: &Design, s: &mut Sheet) {
+    let (v_id, v_sym) = super::operating_point::phase_voltage(d);
+    let v = 2f64.sqrt() * s.value(v_id);
+    let (w, l, c, r) = (
+        s.value("output.omega1"),
+        s.value("filter.inductance"),
+        s.value("filter.capacitance"),
+        s.value("load.r.rated"),
+    );
+    let re = s
+        .derive(
+            "semi.i_l_re",
+            "Inductor current, in-phase part (peak), rated load",
+            "I_(L,\"re\")",
+            Unit::Ampere,
+        )
+        .formula(&format!("sqrt(2) {v_sym} / R_\"ld\""))
+        .inputs(&[v_id, "load.r.rated"])
+        .value(v / r);
+    let (formula, inputs, b) = match s.get("load.x.rated").map(|q| q.value) {
+        Some(x) => (
+            format!("sqrt(2) {v_sym} (omega_1 C - 1 / X_\"ld\")"),
+            vec![v_id, "output.omega1", "filter.capacitance", "load.x.rated"],
+            1.0 / x,
+        ),
+        None => (
+            format!("sqrt(2) {v_sym} omega_1 C"),
+            vec![v_id, "output.omega1", "filter.capacitance"],
+            0.0,
+        ),
+    };
+    let im = s
+        .derive(
+            "semi.i_l_im",
+            "Inductor current, quadrature part (peak), rated load",
+            "I_(L,\"im\")",
+            Unit::Ampere,
+        )
+        .formula(&formula)
+        .inputs(&inputs)
+        .value(v * (w * c - b));
+    s.derive(
+        "semi.v_sw_re",
+        "Switch-node fundamental, in-phase part (peak), rated load",
+        "V_(\"sw\",\"re\")",
+        Unit::Volt,
+    )
+    .formula(&format!("sqrt(2) {v_sym} - omega_1 L I_(L,\"im\")"))
+    .inputs(&[v_id, "output.omega1", "filter.inductance", "semi.i_l_im"])
+    .value(v - w * l * im);
+    s.derive(
+        "semi.v_sw_im",
+        "Switch-node fundamental, quadrature part (peak), rated load",
+        "V_(\"sw\",\"im\")",
+        Unit::Volt,
+    )
+    .formula("omega_1 L I_(L,\"re\")")
+    .inputs(&["output.omega1", "filter.inductance", "semi.i_l_re"])
+    .value(w * l * re);
+}
+
+#[allow(clippy::too_many_arguments)]
+fn crosscheck(
+    d: &Design,
+    s: &mut Sheet,
+    mosfet: bool,
+    m_sym: &str,
+    m_id: &str,
+    cf: &super::bridge_leg::PositionLosses,
+    l: &super::bridge_leg::PositionLosses,
+    dead: bool,
+) {
+    let c3 = if d.bridge.pwm == Pwm::ThirdHarmonic {
+        format!(" - {m_sym} cos(3 phi_\"sw\") / (90 pi)")
+    } else {
+        String::new()
+    };
+    let c3_minus = c3.replace(" - ", " + ");
+    let reference = || {
+        Source::reference(
+            "semiconductor makers' application manuals, averaged losses of a PWM inverter leg with sinusoidal modulation",
+            "closed forms for conduction losses (from memory); the third-harmonic term derived by integrating sin(3 theta) against the current",
+        )
+    };
+    let (t_formula, t_inputs, d_formula, d_inputs): (String, Vec<&str>, String, Vec<&str>) =
+        if mosfet {
+            let dead_t = if dead { " (1 - 2 t_d f_\"sw\")" } else { "" };
+            let r_sym = "R_(\"DS\",\"nom\")";
+            (
+                format!("{r_sym} I_\"leg\"^2{dead_t} / 4"),
+                if dead {
+                    vec![
+                        "semi.r_ds_on_hot.nominal",
+                        "semi.i_leg",
+                        "semi.t_dead",
+                        "bridge.f_sw",
+                    ]
+                } else {
+                    vec!["semi.r_ds_on_hot.nominal", "semi.i_leg"]
+                },
+                if dead {
+                    "2 t_d f_\"sw\" (V_\"F0\" I_\"leg\" / pi + r_\"F\" I_\"leg\"^2 / 4)".to_string()
+                } else {
+                    "0".to_string()
+                },
+                if dead {
+                    vec![
+                        "semi.t_dead",
+                        "bridge.f_sw",
+                        "semi.v_f0",
+                        "semi.i_leg",
+                        "semi.r_f",
+                    ]
+                } else {
+                    vec![]
+                },
+            )
+        } else {
+            (
+            format!("V_\"CE0\" I_\"leg\" (1 / (2 pi) + {m_sym} cos phi_\"sw\" / 8) + r_\"CE\" I_\"leg\"^2 (1 / 8 + {m_sym} cos phi_\"sw\" / (3 pi){c3})"),
+            vec!["semi.v_ce0", "semi.i_leg", m_id, "semi.phi", "semi.r_ce"],
+            format!("V_\"F0\" I_\"leg\" (1 / (2 pi) - {m_sym} cos phi_\"sw\" / 8) + r_\"F\" I_\"leg\"^2 (1 / 8 - {m_sym} cos phi_\"sw\" / (3 pi){c3_minus})"),
+            vec!["semi.v_f0", "semi.i_leg", m_id, "semi.phi", "semi.r_f"],
+        )
+        };
+    s.derive(
+        "semi.p_switch_cond_cf.nominal",
+        "Switch conduction loss, closed form, DC nominal",
+        "P_(\"T,c\",\"cf\")",
+        Unit::Watt,
+    )
+    .formula(&t_formula)
+    .inputs(&t_inputs)
+    .source(reference())
+    .value(cf.switch_conduction);
+    s.derive(
+        "semi.p_diode_cond_cf.nominal",
+        "Diode conduction loss, closed form, DC nominal",
+        "P_(\"D,c\",\"cf\")",
+        Unit::Watt,
+    )
+    .formula(&d_formula)
+    .inputs(&d_inputs)
+    .source(reference())
+    .value(cf.diode_conduction);
+    let num = l.switch_conduction + l.diode_conduction;
+    let closed = cf.switch_conduction + cf.diode_conduction;
+    s.derive("semi.cond_deviation", "Numerical against closed-form conduction loss, DC nominal", "epsilon_\"cond\"", Unit::Percent)
+        .formula("abs(P_(\"T,c\",\"nom\") + P_(\"D,c\",\"nom\") - P_(\"T,c\",\"cf\") - P_(\"D,c\",\"cf\")) / (P_(\"T,c\",\"cf\") + P_(\"D,c\",\"cf\"))")
+        .inputs(&["semi.p_switch_cond.nominal", "semi.p_diode_cond.nominal", "semi.p_switch_cond_cf.nominal", "semi.p_diode_cond_cf.nominal"])
+        .value((num - closed).abs() / closed);
+    let linear = super::switching::linear_limit(d);
+    if s.value(m_id) <= linear {
+        s.check(
+            "check.semi.crosscheck",
+            "The numerically integrated conduction losses agree with the closed forms, DC nominal",
+            "semi.cond_deviation",
+            Relation::AtMost,
+            CROSSCHECK_TOLERANCE,
+            Source::common_practice("1 %: both are averages of the same duty cycle and current in linear modulation, so a larger gap is an error"),
+        );
+    } else {
+        s.warn(
+            "semi.cond_deviation",
+            "the bridge overmodulates at DC nominal, where the closed-form losses do not hold; the numerically integrated losses stand alone",
+        );
+    }
+}
