@@ -22,6 +22,9 @@ pub const PLOT_NAMES: &[&str] = &[
     "switch-waveform-zoom",
     "output-waveform",
     "ripple-envelope",
+    "efficiency-curve",
+    "loss-breakdown",
+    "junction-temperature",
 ];
 
 /// One drawn figure.
@@ -52,6 +55,7 @@ pub fn all(design: &Design, sheet: &Sheet) -> Result<Vec<Figure>, PlotError> {
             }
         }
     }
+    out.extend(super::power_figures::all(design, sheet)?);
     Ok(out)
 }
 

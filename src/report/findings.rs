@@ -95,10 +95,78 @@ pub fn findings(design: &Design, s: &Sheet, subject: &str) -> Result<String, (St
             ),
             None => String::new(),
         },
+        "semiconductors" => match (v("semi.v_peak"), v("semi.p_bridge.nominal")) {
+            (Some(vp), Some(pb)) => {
+                let dev = design.switches.as_ref().map(|s| s.device.name.clone()).unwrap_or_default();
+                format!(
+                    "Each switch position ({dev}) blocks at most {vp} with overshoot, {} of its rating, and carries at most {} peak, {} of its continuous rating. At DC nominal and rated load the bridge's semiconductors lose {pb} ({} in one switch, {} in its diode){}.",
+                    v("semi.voltage_utilisation").unwrap_or_default(),
+                    v(if s.get("filter.i_l_peak").is_some() { "filter.i_l_peak" } else { "semi.i_leg" }).unwrap_or_default(),
+                    v("semi.current_utilisation").unwrap_or_default(),
+                    v("semi.p_switch.nominal").unwrap_or_default(),
+                    v("semi.p_diode.nominal").unwrap_or_default(),
+                    v("semi.cond_deviation").map_or(String::new(), |e| format!("; the numerically integrated conduction losses agree with the closed forms to {e}")),
+                )
+            }
+            _ => "The record describes no switches, so no stresses or losses were evaluated.".to_string(),
+        },
+        "thermal" => match (v("thermal.t_j_hot"), v("thermal.t_a")) {
+            (Some(tj), Some(ta)) => format!(
+                "At the highest ambient of {ta} the hottest junction reaches {tj} against a maximum of {} less a margin of {}. The heatsink would meet that margin down to a thermal resistance of {}; the design tolerates an ambient of up to {} before a junction reaches its maximum.",
+                v("thermal.t_j_max").unwrap_or_default(),
+                v("limits.min_junction_margin").unwrap_or_default(),
+                v("thermal.r_sa_needed").unwrap_or_default(),
+                v("thermal.t_a_max").unwrap_or_default(),
+            ),
+            _ => "The record describes no thermal path, so no temperatures were evaluated.".to_string(),
+        },
+        "dc-link" => match (v("dclink.life"), v("dclink.t_hotspot")) {
+            (Some(life), Some(hs)) => {
+                let ripple = match (v("dclink.v_mid_pp"), v("dclink.v_2f_pp")) {
+                    (Some(m), _) => format!(" The midpoint of the split bank swings by {m} peak to peak at f1."),
+                    (_, Some(r)) => format!(" The bus ripples by {r} peak to peak at twice the output frequency."),
+                    _ => String::new(),
+                };
+                format!(
+                    "The bank carries up to {} rms; its hot spot reaches {hs}, for an expected life of {life} against a target of {}.{ripple} At the DC maximum it stores {}, which the bleeder takes {} to bring below {}.",
+                    ["min", "nominal", "max"]
+                        .iter()
+                        .filter_map(|k| s.get(&format!("dclink.i_rms.{k}")))
+                        .max_by(|a, b| a.value.total_cmp(&b.value))
+                        .map(value_markup)
+                        .unwrap_or_default(),
+                    v("limits.min_capacitor_life").unwrap_or_default(),
+                    v("dclink.energy").unwrap_or_default(),
+                    v("dclink.t_discharge").unwrap_or_default(),
+                    v("limits.safe_touch_voltage").unwrap_or_default(),
+                )
+            }
+            _ => "The record describes no DC-link bank, so its stresses were not evaluated.".to_string(),
+        },
+        "efficiency" => match (v("efficiency.eta.nominal.k100"), v("efficiency.eta_cec.nominal")) {
+            (Some(full), Some(cec)) => format!(
+                "At DC nominal the efficiency is {full} at rated power and {} at half power; weighted, it is {cec} by the California Energy Commission's weighting and {} by the European weighting. At the DC minimum the weighted figures are {} and {}, at the DC maximum {} and {}.",
+                v("efficiency.eta.nominal.k50").unwrap_or_default(),
+                v("efficiency.eta_eu.nominal").unwrap_or_default(),
+                v("efficiency.eta_cec.min").unwrap_or_default(),
+                v("efficiency.eta_eu.min").unwrap_or_default(),
+                v("efficiency.eta_cec.max").unwrap_or_default(),
+                v("efficiency.eta_eu.max").unwrap_or_default(),
+            ),
+            _ => "The record describes no switches, so no losses or efficiencies were evaluated.".to_string(),
+        },
+        "ratings" => format!(
+            "For the nameplate: a continuous output current of {} per phase, a maximum DC input voltage of {} and a maximum DC input current of {}. The output circuit's overcurrent device must be rated at least {}; the next standard rating is {}. Local codes, the authority having jurisdiction and the utility's rules govern the actual protection.",
+            v("ratings.i_out").unwrap_or_default(),
+            v("ratings.v_dc_max").unwrap_or_default(),
+            v("ratings.i_dc_max").unwrap_or_default(),
+            v("ratings.ocpd_min").unwrap_or_default(),
+            v("ratings.ocpd").unwrap_or_default(),
+        ),
         other => {
             return Err(err(
                 format!("no findings for `{other}`"),
-                "use `@place findings filter`, `spectrum`, `quality` or `ripple`",
+                "use `@place findings filter`, `spectrum`, `quality`, `ripple`, `semiconductors`, `thermal`, `dc-link`, `efficiency` or `ratings`",
             ))
         }
     };

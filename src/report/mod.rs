@@ -4,12 +4,16 @@
 //! - [`template`]: Markdown with `@place` and `@{...}` directives to typst markup.
 //! - [`sections`]: what each directive produces (tables, calculation entries, cautions).
 //! - [`plot`]: plotters SVG figures; [`figures`] computes their data from the sheet.
+//! - [`power_figures`]: efficiency, loss and junction-temperature figures;
+//!   [`bar_plot`] draws the loss bars.
 //! - [`typeset`]: the in-memory typst world and PDF export.
 
+pub mod bar_plot;
 pub mod figures;
 pub mod findings;
 pub mod markup;
 pub mod plot;
+pub mod power_figures;
 pub mod sections;
 pub mod spectrum_figures;
 pub mod spectrum_plot;

@@ -45,6 +45,32 @@ pub const SUBJECTS: &[(&str, &str, &[&str])] = &[
         "Ripple current and filter stresses",
         &["ripple.", "limits.max_ripple_fraction"],
     ),
+    (
+        "semiconductors",
+        "Semiconductor stresses and losses",
+        &[
+            "semi.",
+            "limits.max_voltage_utilisation",
+            "limits.max_current_utilisation",
+        ],
+    ),
+    (
+        "thermal",
+        "Thermal path and junction temperatures",
+        &["thermal.", "limits.min_junction_margin"],
+    ),
+    (
+        "dc-link",
+        "DC link",
+        &[
+            "dclink.",
+            "limits.min_capacitor_life",
+            "limits.safe_touch_voltage",
+            "limits.max_discharge_time",
+        ],
+    ),
+    ("efficiency", "Losses and efficiency", &["efficiency."]),
+    ("ratings", "Ratings", &["ratings."]),
     ("limits", "Design limits", &["limits."]),
 ];
 
@@ -58,7 +84,7 @@ pub fn subject_of(id: &str) -> &'static str {
 
 /// The assumptions every evaluation makes, stated in every package.
 pub const ENGINE_ASSUMPTIONS: &[(&str, &str)] = &[
-    ("E1", "Switches and diodes are ideal: no forward drops, no dead time, instantaneous transitions."),
+    ("E1", "For the modulation, the spectrum and the filter, switches and diodes are ideal: no forward drops, no dead time, instantaneous transitions. Losses use the device model of the semiconductor section."),
     ("E2", "Filter components are ideal and lossless; L and C do not change with current, voltage, frequency or temperature."),
     ("E3", "The load is a constant impedance: a resistance for the real power in parallel with an inductance for the reactive power of the lagging power factor."),
     ("E4", "Modulation is sine-triangle PWM; modulation indices follow from switching-period averages of the bridge output."),
@@ -68,6 +94,9 @@ pub const ENGINE_ASSUMPTIONS: &[(&str, &str)] = &[
     ("E8", "A grid-connected bridge sees a stiff sinusoidal grid source free of harmonics behind the stated grid inductance (zero where none is stated)."),
     ("E9", "The grid current is at the rated power and power factor, lagging the voltage at the connection point by arccos of the power factor; a balanced three-phase output is evaluated per phase."),
     ("E10", "A battery's or PV string's DC power is taken as the rated output power (the bridge's losses are not in it), and a battery's open-circuit voltage sits behind a constant internal resistance."),
+    ("E11", "Device losses: every switch position carries the same device; the leg current is its fundamental, constant over a carrier period; conduction follows a threshold and a slope resistance (an IGBT's and a diode's at the hot junction as entered, a MOSFET's R_ds,on rising linearly from 25 °C); switching and recovery energies scale linearly with voltage and current from the datasheet's reference point; the gate drive's own losses are in the auxiliary power."),
+    ("E12", "Thermal: steady state, one heatsink shared by all positions, each switch with its diode in one package; the DC-link bank carries the bridge's input current less its mean (the source delivers only the mean), the inductor ripple left out; capacitor life follows the 10 K rule from the rated life."),
+    ("E13", "Efficiency: the losses of the semiconductors, the DC-link ESR, the inductor windings, the bleeder, the damping resistor and the auxiliary supplies; core losses, the grid-side inductor's winding and the capacitors' dielectric losses are not included; all at the highest ambient."),
 ];
 
 /// Everything the sections need.
@@ -225,7 +254,21 @@ pub fn is_spectral_line(id: &str) -> bool {
     })
 }
 
-/// The id with its order segment replaced by `h*`: the kind of line.
+/// A result at a load point below rated (`efficiency.eta.nominal.k50`): listed in one
+/// line table per kind, like the spectral lines, while the rated-load result (`k100`)
+/// keeps its full entry with the formula the others share.
+pub fn is_load_line(id: &str) -> bool {
+    id.split('.')
+        .any(|seg| load_percent(seg).is_some_and(|p| p != "100"))
+}
+
+/// The percentage of a load segment: `k50` -> `50`.
+fn load_percent(seg: &str) -> Option<&str> {
+    seg.strip_prefix('k')
+        .filter(|d| !d.is_empty() && d.chars().all(|c| c.is_ascii_digit()))
+}
+
+/// The id with its order (or load) segment replaced by `h*` (`k*`): the kind of line.
 fn line_stem(id: &str) -> String {
     id.split('.')
         .map(|seg| {
@@ -234,6 +277,8 @@ fn line_stem(id: &str) -> String {
                 && seg[1..].starts_with(|c: char| c.is_ascii_digit())
             {
                 "h*"
+            } else if load_percent(seg).is_some() {
+                "k*"
             } else {
                 seg
             }
@@ -471,9 +516,18 @@ impl Context<'_> {
         } else {
             ""
         };
+        let bus = match (s.get("dclink.energy"), s.get("dclink.t_discharge")) {
+            (Some(e), Some(t)) => format!(
+                "the DC-link capacitors hold {} at the DC maximum, and their bleeder takes {} to bring them below {}",
+                format_value(e.value, Unit::Joule),
+                format_value(t.value, Unit::Second),
+                format_value(s.value("limits.safe_touch_voltage"), Unit::Volt),
+            ),
+            _ => "the DC-link capacitors (not evaluated in this package) usually hold far more".to_string(),
+        };
         let items = [
             format!("Hazardous voltage. The DC input reaches {v_dc} and {output} {v_pk}; both can kill. Work on this equipment only de-energised, isolated and verified dead, by qualified persons.{grid}"),
-            format!("Stored energy. Capacitors stay charged after the source is disconnected: {filter_energy}the DC-link capacitors (not evaluated in this package) usually hold far more. Measure before touching; do not rely on bleeder resistors."),
+            format!("Stored energy. Capacitors stay charged after the source is disconnected: {filter_energy}{bus}. Wait at least that long, then measure before touching; a bleeder can fail open, so never rely on it alone."),
             "This package does not replace review and sealing by a licensed professional engineer. Its numbers are only as good as the record's inputs and the stated assumptions.".to_string(),
             "Local electrical codes, the authority having jurisdiction and the utility's interconnection rules prevail over anything in this package.".to_string(),
         ];
@@ -521,7 +575,7 @@ impl Context<'_> {
             .quantities
             .iter()
             .filter(|q| subject_of(&q.id) == *name)
-            .partition(|q| is_spectral_line(&q.id));
+            .partition(|q| is_spectral_line(&q.id) || is_load_line(&q.id));
         for q in entries {
             out.push_str(&format!(
                 "#calc-entry(id: {}, name: {}, source: {}, input: {})[{}]\n",
@@ -543,6 +597,38 @@ impl Context<'_> {
         }
         for (stem, qs) in stems {
             let first = qs[0];
+            if stem.contains("k*") {
+                // "Efficiency at 50 % load, DC nominal" -> "Efficiency by load, DC nominal".
+                let pct = |q: &Quantity| {
+                    q.id.split('.')
+                        .find_map(load_percent)
+                        .unwrap_or_default()
+                        .to_string()
+                };
+                let family =
+                    first
+                        .name
+                        .replacen(&format!("at {} % load", pct(first)), "by load", 1);
+                let rows: Vec<String> = qs
+                    .iter()
+                    .map(|q| {
+                        format!(
+                            "({}, {})",
+                            string(&format!("{} %", pct(q))),
+                            string(&q.display())
+                        )
+                    })
+                    .collect();
+                out.push_str(&format!(
+                    "#line-table(title: {}, id: {}, key: {}, source: {}, ({},))\n",
+                    string(&family),
+                    string(&stem),
+                    string("k the load; the formula is that of the rated-load entry"),
+                    string(&pdf_source(&first.source)),
+                    rows.join(", ")
+                ));
+                continue;
+            }
             let order = |q: &Quantity| {
                 q.id.split('.')
                     .find(|seg| {
