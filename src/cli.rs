@@ -69,6 +69,99 @@ pub enum Command {
         /// A result or check id, e.g. `modulation.m_a.min` (`check --json` lists them all).
         id: String,
     },
+    /// Show what changed between two revisions: inputs, quantities, flipped checks.
+    ///
+    /// Each side is a design record, a built package folder or a package PDF. Exit code
+    /// 0 when nothing changed beyond the tolerance, 1 when something did.
+    Diff {
+        /// The older revision.
+        old: PathBuf,
+        /// The newer revision.
+        new: PathBuf,
+        /// Relative change below which a quantity counts as unchanged, e.g. `1e-6` or `0.1 %`.
+        #[arg(long)]
+        tolerance: Option<String>,
+        /// Print the delta as JSON.
+        #[arg(long)]
+        json: bool,
+        /// Also write the delta as a PDF document for a submission.
+        #[arg(long)]
+        pdf: Option<PathBuf>,
+    },
+    /// Make an ed25519 key pair for signing packages: KEYFILE (private) and KEYFILE.pub.
+    Keygen {
+        /// Where the private key goes (written readable by its owner only).
+        #[arg(long)]
+        out: PathBuf,
+    },
+    /// Sign a built package as checker or approver (adds to its signatures.json).
+    Sign {
+        /// The package folder, e.g. out/PS-204/B.
+        package: PathBuf,
+        /// The private key file from `keygen`.
+        #[arg(long)]
+        key: PathBuf,
+        /// The role of the signature.
+        #[arg(long, value_parser = ["checked", "approved"])]
+        role: String,
+        /// The signer's name as it should appear in the record.
+        #[arg(long)]
+        name: String,
+        /// The date of signing (YYYY-MM-DD); today if left out.
+        #[arg(long)]
+        date: Option<String>,
+    },
+    /// Prove a package untouched, check its signatures, and re-check its numbers.
+    ///
+    /// Exit codes: 0 intact and current, 1 intact but the numbers drifted under today's
+    /// engine, 2 not a package, 3 tampered, 4 a signature invalid or untrusted.
+    Verify {
+        /// The package folder.
+        package: PathBuf,
+        /// A trusted public key (file or 64 hex digits); repeat for several.
+        #[arg(long)]
+        trust: Vec<String>,
+        /// Relative change below which a re-evaluated quantity counts as unchanged.
+        #[arg(long)]
+        tolerance: Option<String>,
+    },
+    /// Keep signed-off packages in an append-only, content-addressed archive.
+    Archive {
+        #[command(subcommand)]
+        action: ArchiveAction,
+    },
+}
+
+#[derive(Debug, Subcommand)]
+pub enum ArchiveAction {
+    /// Add a package folder to the archive (refuses a tampered or already archived one).
+    Add {
+        /// The package folder.
+        package: PathBuf,
+        /// The archive folder (created if missing).
+        #[arg(long)]
+        to: PathBuf,
+    },
+    /// List the archive's entries in the order they were added.
+    List {
+        /// The archive folder.
+        #[arg(long = "in", default_value = "archive")]
+        archive: PathBuf,
+    },
+    /// Show one entry: its files, hashes and signatures.
+    Show {
+        /// An entry id or package id, or the start of one.
+        id: String,
+        /// The archive folder.
+        #[arg(long = "in", default_value = "archive")]
+        archive: PathBuf,
+    },
+    /// Verify every entry, hash and signature, and the log's chain. Exit 3 on damage.
+    Verify {
+        /// The archive folder.
+        #[arg(long = "in", default_value = "archive")]
+        archive: PathBuf,
+    },
 }
 
 /// Loads, validates and evaluates a record, including the references in its Markdown.
@@ -187,6 +280,32 @@ fn run_inner(cli: &Cli, out: &mut dyn Write, err: &mut dyn Write) -> Result<u8, 
             };
             explain(&sheet, q, out).map_err(io)?;
             Ok(EXIT_PASS)
+        }
+        Command::Diff {
+            old,
+            new,
+            tolerance,
+            json,
+            pdf,
+        } => crate::lifecycle::diff(old, new, tolerance.as_deref(), *json, pdf.as_deref(), out)
+            .map_err(|e| e.or_io(io)),
+        Command::Keygen { out: key } => crate::lifecycle::keygen(key, out).map_err(|e| e.or_io(io)),
+        Command::Sign {
+            package,
+            key,
+            role,
+            name,
+            date,
+        } => crate::lifecycle::sign(package, key, role, name, date.as_deref(), out)
+            .map_err(|e| e.or_io(io)),
+        Command::Verify {
+            package,
+            trust,
+            tolerance,
+        } => crate::lifecycle::verify(package, trust, tolerance.as_deref(), out)
+            .map_err(|e| e.or_io(io)),
+        Command::Archive { action } => {
+            crate::lifecycle::archive(action, out).map_err(|e| e.or_io(io))
         }
     }
 }

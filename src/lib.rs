@@ -19,6 +19,7 @@
 pub mod calc;
 pub mod cli;
 pub mod diag;
+pub mod lifecycle;
 pub mod package;
 pub mod record;
 pub mod report;

@@ -104,6 +104,38 @@ impl Unit {
         }
     }
 
+    /// The unit a `results.json` code stands for, for printing a stored value: the
+    /// inverse of [`Unit::code`] where that is one-to-one; `1` reads as a pure number,
+    /// `s` as seconds and `rad` as degrees.
+    pub fn from_code(code: &str) -> Unit {
+        const ALL: [Unit; 21] = [
+            Unit::Volt,
+            Unit::Ampere,
+            Unit::Hertz,
+            Unit::RadianPerSecond,
+            Unit::Watt,
+            Unit::VoltAmpere,
+            Unit::Var,
+            Unit::Henry,
+            Unit::Farad,
+            Unit::Ohm,
+            Unit::Siemens,
+            Unit::Second,
+            Unit::Joule,
+            Unit::DegreeCelsius,
+            Unit::Kelvin,
+            Unit::One,
+            Unit::PercentPerKelvin,
+            Unit::Decibel,
+            Unit::Degree,
+            Unit::KelvinPerWatt,
+            Unit::Percent,
+        ];
+        ALL.into_iter()
+            .find(|u| u.code() == code)
+            .unwrap_or(Unit::One)
+    }
+
     /// What the unit measures, as an engineer would say it in an error message.
     pub fn quantity_name(self) -> &'static str {
         match self {

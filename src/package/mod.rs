@@ -5,6 +5,13 @@
 //! compact JSON with keys sorted, so that comments, whitespace, quoting and key order
 //! do not change it while any change of a value does.
 
+pub mod archive;
+pub mod attachments;
+pub mod diff;
+pub mod manifest;
+pub mod signature;
+pub mod verify;
+
 use crate::record::{Design, Record};
 use crate::report::{self, Templates};
 use crate::sheet::Sheet;
@@ -16,14 +23,30 @@ use std::path::{Path, PathBuf};
 /// The engine's name and version, part of every stamp.
 pub const ENGINE_VERSION: &str = concat!("bridgebook ", env!("CARGO_PKG_VERSION"));
 
+/// SHA-256 of the engine's source files, computed when it was compiled (`src/build.rs`).
+pub const SOURCE_SHA256: &str = env!("BRIDGEBOOK_SOURCE_SHA256");
+
 /// The hashes that identify what a package was made from.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Stamp {
     /// SHA-256 of the canonical record.
     pub record_sha256: String,
-    /// SHA-256 of the engine version and every template file.
+    /// SHA-256 of the engine version, the engine's source and every template file.
     pub engine_sha256: String,
+    /// SHA-256 of the template files alone.
+    pub templates_sha256: String,
     pub engine_version: String,
+    /// A short id derived from the record and engine hashes, printed in the revision
+    /// block so that a paper copy can be matched to its package and archive entry.
+    pub package_id: String,
+}
+
+/// The package id of a record hash and an engine hash: the first 80 bits of
+/// SHA-256("bridgebook package" | record | engine) as five groups of four hex digits.
+pub fn package_id(record_sha256: &str, engine_sha256: &str) -> String {
+    let h = sha256_hex(format!("bridgebook package|{record_sha256}|{engine_sha256}").as_bytes());
+    let groups: Vec<&str> = (0..5).map(|i| &h[4 * i..4 * i + 4]).collect();
+    groups.join("-")
 }
 
 pub fn sha256_hex(bytes: &[u8]) -> String {
@@ -75,22 +98,32 @@ pub fn canonical_json(doc: &serde_yaml::Value) -> Json {
     }
 }
 
+/// The templates' hash and the engine hash (version, source and templates).
+pub fn engine_hashes(templates: &Templates) -> (String, String) {
+    let mut tpl = Sha256::new();
+    for (name, bytes) in &templates.files {
+        // Length-prefixed so that moving bytes between names changes the hash.
+        tpl.update((name.len() as u64).to_le_bytes());
+        tpl.update(name.as_bytes());
+        tpl.update((bytes.len() as u64).to_le_bytes());
+        tpl.update(bytes);
+    }
+    let templates_sha256 = hex(&tpl.finalize());
+    let engine_sha256 =
+        sha256_hex(format!("{ENGINE_VERSION}|{SOURCE_SHA256}|{templates_sha256}").as_bytes());
+    (templates_sha256, engine_sha256)
+}
+
 /// Hashes a record and the templates it is rendered with.
 pub fn stamp(record: &Record, templates: &Templates) -> Stamp {
     let canonical = canonical_json(&record.document).to_string();
-    let mut engine = Sha256::new();
-    engine.update(ENGINE_VERSION.as_bytes());
-    for (name, bytes) in &templates.files {
-        // Length-prefixed so that moving bytes between names changes the hash.
-        engine.update((name.len() as u64).to_le_bytes());
-        engine.update(name.as_bytes());
-        engine.update((bytes.len() as u64).to_le_bytes());
-        engine.update(bytes);
-    }
-    let digest = engine.finalize();
+    let (templates_sha256, engine_sha256) = engine_hashes(templates);
+    let record_sha256 = sha256_hex(canonical.as_bytes());
     Stamp {
-        record_sha256: sha256_hex(canonical.as_bytes()),
-        engine_sha256: hex(&digest),
+        package_id: package_id(&record_sha256, &engine_sha256),
+        record_sha256,
+        engine_sha256,
+        templates_sha256,
         engine_version: ENGINE_VERSION.to_string(),
     }
 }
@@ -103,8 +136,10 @@ pub fn results_json(record: &Record, sheet: &Sheet, stamp: &Stamp) -> Json {
         "stamp": {
             "project": d.project.id,
             "revision": d.project.revision,
+            "package_id": stamp.package_id,
             "record_sha256": stamp.record_sha256,
             "engine_sha256": stamp.engine_sha256,
+            "templates_sha256": stamp.templates_sha256,
             "engine": stamp.engine_version,
         },
         "quantities": sheet.quantities,
@@ -153,6 +188,21 @@ impl std::fmt::Display for BuildError {
     }
 }
 
+/// The package's PDF.
+pub const PDF_FILE: &str = "package.pdf";
+/// The package's results document.
+pub const RESULTS_FILE: &str = "results.json";
+/// The package's design record in canonical form.
+pub const RECORD_FILE: &str = "record.json";
+
+/// The canonical record as a file: pretty JSON, keys sorted. It reads back as a record
+/// (JSON is YAML), which is how `verify` and `diff` re-evaluate a package.
+pub fn record_json(record: &Record) -> Vec<u8> {
+    let mut v = serde_json::to_vec_pretty(&canonical_json(&record.document)).unwrap_or_default();
+    v.push(b'\n');
+    v
+}
+
 /// Evaluated and rendered package contents, ready to write.
 pub struct Contents {
     pub files: Vec<(String, Vec<u8>)>,
@@ -166,19 +216,38 @@ pub fn assemble(
     templates: &Templates,
 ) -> Result<Contents, BuildError> {
     let stamp = stamp(record, templates);
-    let rendered = report::render(record, sheet, &stamp, templates).map_err(|e| match e {
-        report::RenderError::Input(d) => BuildError::Input(d),
-        report::RenderError::Typeset(t) => BuildError::Typeset(t),
-    })?;
     let results = serde_json::to_vec_pretty(&results_json(record, sheet, &stamp))
         .map_err(|e| BuildError::Typeset(format!("internal error: results: {e}")))?;
+    let canonical = record_json(record);
+    let attachments = [
+        report::Attachment {
+            name: RECORD_FILE.to_string(),
+            description: "The design record in canonical form (keys sorted, values as written)"
+                .to_string(),
+            bytes: canonical.clone(),
+        },
+        report::Attachment {
+            name: RESULTS_FILE.to_string(),
+            description: "Every quantity and check of this package".to_string(),
+            bytes: results.clone(),
+        },
+    ];
+    let rendered = report::render_attached(record, sheet, &stamp, templates, &attachments)
+        .map_err(|e| match e {
+            report::RenderError::Input(d) => BuildError::Input(d),
+            report::RenderError::Typeset(t) => BuildError::Typeset(t),
+        })?;
     let mut files = vec![
-        ("package.pdf".to_string(), rendered.pdf),
-        ("results.json".to_string(), results),
+        (PDF_FILE.to_string(), rendered.pdf),
+        (RESULTS_FILE.to_string(), results),
+        (RECORD_FILE.to_string(), canonical),
     ];
     for (name, svg) in rendered.plots {
         files.push((name, svg.into_bytes()));
     }
+    let p = &record.design.project;
+    let m = manifest::Manifest::of(&stamp, &p.id, &p.revision, &p.date.to_string(), &files);
+    files.push((manifest::MANIFEST.to_string(), m.to_bytes()));
     Ok(Contents {
         files,
         pages: rendered.pages,
@@ -236,6 +305,37 @@ pub fn write_atomic(dir: &Path, files: &[(String, Vec<u8>)]) -> Result<(), Build
         let _ = std::fs::remove_dir_all(&staging);
     }
     result
+}
+
+/// Replaces one file atomically: written beside it under a temporary name, synced,
+/// then renamed over it, and the folder synced, so a crash leaves the old file or the
+/// new one, never half of either.
+pub fn write_file_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    use std::io::Write;
+    let dir = path.parent().unwrap_or(Path::new("."));
+    let name = path
+        .file_name()
+        .map_or("file".into(), |n| n.to_string_lossy().to_string());
+    let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)?;
+        sync_dir(dir)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// Syncs a folder, so that a rename in it survives a power cut.
+pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
+    match std::fs::File::open(dir) {
+        Ok(f) => f.sync_all().or(Ok(())),
+        Err(e) => Err(e),
+    }
 }
 
 /// Builds the package of a record into `out` and returns where it went.

@@ -130,6 +130,25 @@ pub fn render(
     stamp: &Stamp,
     templates: &Templates,
 ) -> Result<Rendered, RenderError> {
+    render_attached(record, sheet, stamp, templates, &[])
+}
+
+/// A file attached to the PDF: its name (also its path under `/attachments/`), what
+/// it is, and its bytes.
+pub struct Attachment {
+    pub name: String,
+    pub description: String,
+    pub bytes: Vec<u8>,
+}
+
+/// As [`render`], with files attached to the PDF (PDF/A-3 associated files).
+pub fn render_attached(
+    record: &Record,
+    sheet: &Sheet,
+    stamp: &Stamp,
+    templates: &Templates,
+    attachments: &[Attachment],
+) -> Result<Rendered, RenderError> {
     let design = &record.design;
     let figures = figures::all(design, sheet).map_err(|e| {
         RenderError::Typeset(format!("internal error: a plot could not be drawn: {e}"))
@@ -180,8 +199,19 @@ pub fn render(
     let tail = tail.map_err(|(m, _)| RenderError::Typeset(format!("internal error: {m}")))?;
 
     let p = &design.project;
+    // Attachments at fixed paths (typst interns file ids for the process's life).
+    let attach: String = attachments
+        .iter()
+        .map(|a| {
+            format!(
+                "#pdf.attach({}, relationship: \"source\", mime-type: \"application/json\", description: {})\n",
+                markup::string(&format!("/attachments/{}", a.name)),
+                markup::string(&a.description)
+            )
+        })
+        .collect();
     let main = format!(
-        "#import \"/style.typ\": *\n#show: package.with(id: {}, title: {}, revision: {}, date: {}, failing: {})\n\n{body}{tail}\n",
+        "#import \"/style.typ\": *\n#show: package.with(id: {}, title: {}, revision: {}, date: {}, failing: {})\n{attach}\n{body}{tail}\n",
         markup::string(&p.id),
         markup::string(&p.title),
         markup::string(&p.revision),
@@ -192,6 +222,12 @@ pub fn render(
         path: "/style.typ".to_string(),
         bytes: templates.get("style.typ").to_vec(),
     }];
+    for a in attachments {
+        assets.push(typeset::Asset {
+            path: format!("/attachments/{}", a.name),
+            bytes: a.bytes.clone(),
+        });
+    }
     for (f, r) in figures.iter().zip(&plot_refs) {
         assets.push(typeset::Asset {
             path: r.asset.clone(),

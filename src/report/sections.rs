@@ -385,9 +385,10 @@ impl Context<'_> {
             ));
         }
         Ok(format!(
-            "#revision-block(current: {}, history: ({},), record-hash: {}, engine-hash: {}, engine: {}, prepared-by: {})",
+            "#revision-block(current: {}, history: ({},), package-id: {}, record-hash: {}, engine-hash: {}, engine: {}, prepared-by: {})",
             string(&p.revision),
             rows.join(", "),
+            string(&self.stamp.package_id),
             string(&self.stamp.record_sha256),
             string(&self.stamp.engine_sha256),
             string(&self.stamp.engine_version),
@@ -728,7 +729,9 @@ pub fn record_text_errors(record: &crate::record::Record, sheet: &Sheet) -> Vec<
     let stamp = Stamp {
         record_sha256: String::new(),
         engine_sha256: String::new(),
+        templates_sha256: String::new(),
         engine_version: String::new(),
+        package_id: String::new(),
     };
     let mut ctx = Context {
         design: &record.design,

@@ -18,7 +18,7 @@ use typst::utils::LazyHash;
 use typst::{Library, LibraryExt, World, WorldExt};
 use typst_kit::fonts::FontStore;
 use typst_layout::PagedDocument;
-use typst_pdf::{PdfOptions, Timestamp};
+use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 /// The path under which the document source is always served. Keeping it fixed
 /// means the main file costs exactly one interned file id for the whole life of
@@ -149,6 +149,10 @@ fn typeset(world: &DocumentWorld, today: Datetime, ident: &str) -> Result<Pdf, T
         // Without an explicit timestamp typst writes no date at all, which
         // PDF/A forbids; with the wall clock the bytes would differ per run.
         timestamp: Some(Timestamp::new_utc(today)),
+        // PDF/A-3b: archival, and (unlike PDF/A-2) it allows the attached record and
+        // results that make the PDF a self-contained record of the package.
+        standards: PdfStandards::new(&[PdfStandard::A_3b])
+            .map_err(|e| TypesetError::plain(format!("internal error: PDF/A: {e:?}")))?,
         ..PdfOptions::default()
     };
     let bytes = typst_pdf::pdf(&document, &options).map_err(|errors| render_all(world, &errors))?;
