@@ -572,6 +572,26 @@ mod tests {
     }
 
     #[test]
+    fn thermal_resistance_and_hours() {
+        // 1 K/W = 1 °C/W (a temperature difference per watt; SI brochure, kelvin and
+        // degree Celsius intervals are equal); an hour is 3600 s (SI brochure, Table 8).
+        assert_eq!(parse_value("0.35 K/W", Unit::KelvinPerWatt), Ok(0.35));
+        assert_eq!(parse_value("0.35 °C/W", Unit::KelvinPerWatt), Ok(0.35));
+        assert_eq!(parse_value("5000 h", Unit::Hour), Ok(5000.0 * 3600.0));
+        assert_eq!(format_value(5000.0 * 3600.0, Unit::Hour), "5000 h");
+        assert!(
+            parse_value("5 kh", Unit::Hour).is_err(),
+            "hours take no prefix"
+        );
+        assert!(
+            parse_value("25 mohm", Unit::Ohm).is_ok(),
+            "ohm still wins over h"
+        );
+        assert_eq!(Unit::from_code("K/W"), Unit::KelvinPerWatt);
+        assert_eq!(Unit::from_code("degC"), Unit::DegreeCelsius);
+    }
+
+    #[test]
     fn print_then_parse_round_trips() {
         let cases = [
             (1.8e-3, Unit::Henry),
@@ -582,6 +602,9 @@ mod tests {
             (47e-9, Unit::Farad),
             (4.7e6, Unit::Ohm),
             (-25.0, Unit::DegreeCelsius),
+            (0.35, Unit::KelvinPerWatt),
+            (5000.0 * 3600.0, Unit::Hour),
+            (-0.0045, Unit::PercentPerKelvin),
         ];
         for (value, unit) in cases {
             let text = format_value(value, unit);

@@ -70,6 +70,24 @@ fn igbt_conduction_losses_match_the_closed_forms_within_one_percent() {
 }
 
 #[test]
+fn the_phasor_chain_at_rated_load_is_the_sheets() {
+    // leg_current redoes the filter's fundamental chain for any load; at rated load it
+    // must give the sheet's modulation indices and the switch-node angle traced in
+    // `semi.phi` from the filter's own phasors (the same circuit, written twice).
+    for name in common::demos() {
+        let rec = common::load(&demo(&name));
+        let s = bridgebook::calc::evaluate(&rec.design);
+        for key in ["min", "nominal", "max"] {
+            let p = bridgebook::calc::leg_current::leg_point(&rec.design, &s, key, 1.0);
+            let m = s.value(&format!("modulation.m_a.{key}"));
+            assert!(rel(p.m, m) < 1e-9, "{name} {key}: m {} vs {m}", p.m);
+            assert!(rel(p.i_pk, s.value("semi.i_leg")) < 1e-9, "{name} {key}");
+            assert!((p.phi - s.value("semi.phi")).abs() < 1e-9, "{name} {key}");
+        }
+    }
+}
+
+#[test]
 fn mosfet_losses_sit_at_the_junction_temperature_they_produce() {
     // Fixed point: R_ds,on at T_j gives losses that give T_j again through the thermal
     // network (steady-state thermal resistances; common practice).
@@ -109,6 +127,7 @@ fn thermal_network_by_hand() {
     // present ambient plus the junction's distance to its maximum.
     let hot = s.value("thermal.t_j_hot");
     assert!((s.value("thermal.t_a_max") - (50.0 + 175.0 - hot)).abs() < 1e-6);
+    assert!((s.value("thermal.j_margin") - (175.0 - hot)).abs() < 1e-9);
     // The heatsink found for the margin puts the hottest junction exactly on it.
     let key = ["min", "nominal", "max"]
         .into_iter()

@@ -80,6 +80,15 @@ pub fn leg_point(d: &Design, s: &Sheet, point: &str, k: f64) -> LegPoint {
     }
 }
 
+/// The local duty of leg a as typst math, with the modulation index's symbol `m`.
+pub fn duty_formula(d: &Design, m: &str) -> String {
+    if d.bridge.pwm == Pwm::ThirdHarmonic {
+        format!("(1 + {m} (sin theta + sin 3 theta / 6)) / 2")
+    } else {
+        format!("(1 + {m} sin theta) / 2")
+    }
+}
+
 /// Every leg of the bridge at one operating point, leg a first.
 pub fn legs(d: &Design, a: &LegPoint) -> Vec<LegPoint> {
     let n = modulation_of(d).legs();

@@ -167,14 +167,7 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
     angle(d, s);
 
     let t_a = d.thermal.as_ref().map_or(25.0, |t| t.ambient_max.value);
-    let third = d.bridge.pwm == Pwm::ThirdHarmonic;
-    let duty = |m: &str| {
-        if third {
-            format!("(1 + {m} (sin theta + sin 3 theta / 6)) / 2")
-        } else {
-            format!("(1 + {m} sin theta) / 2")
-        }
-    };
+    let duty = |m: &str| super::leg_current::duty_formula(d, m);
     let current = "quad i = I_\"leg\" sin(theta - phi_\"sw\")";
     let integral = || {
         Source::common_practice(

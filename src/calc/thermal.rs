@@ -332,12 +332,23 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
     .inputs(&["thermal.t_j_max", "limits.min_junction_margin"])
     .source(limit_source(&d.limits.min_junction_margin))
     .value(t_max - margin);
+    // The check compares the margin itself (a temperature difference), so that its
+    // percentage is of the required margin, not of a Celsius reading.
+    s.derive(
+        "thermal.j_margin",
+        "Distance of the hottest junction below its maximum",
+        "Delta T_j",
+        Unit::Kelvin,
+    )
+    .formula("T_(j,max) - T_(j,\"hot\")")
+    .inputs(&["thermal.t_j_max", "thermal.t_j_hot"])
+    .value(t_max - worst.0);
     s.check(
         "check.thermal.junction",
-        "The hottest junction stays below its maximum less the margin, at the highest ambient and every DC point",
-        "thermal.t_j_hot",
-        Relation::AtMost,
-        t_max - margin,
+        "The hottest junction stays at least the margin below its maximum, at the highest ambient and every DC point",
+        "thermal.j_margin",
+        Relation::AtLeast,
+        margin,
         limit_source(&d.limits.min_junction_margin),
     );
 

@@ -20,6 +20,8 @@ pub(super) fn read_switches(s: Section) -> Option<Switches> {
             None
         }
         Some(Value::String(name)) => {
+            // Read again as text so the name is in the inputs table.
+            let _ = s.text("device");
             let library = s.text("library");
             library.and_then(|lib| {
                 read_from_library(
@@ -38,8 +40,10 @@ pub(super) fn read_switches(s: Section) -> Option<Switches> {
                     Some("either write `device: NAME` with `library: FILE`, or the device's data under `device:` without `library`".into()),
                 );
             }
-            s.section("device")
-                .and_then(|d| read_device(d, "inline".into(), None))
+            s.section("device").and_then(|d| {
+                let name = d.optional_text("name");
+                read_device(d, name, None)
+            })
         }
         Some(_) => {
             r.error(
@@ -147,7 +151,7 @@ fn read_from_library(
         }
     };
     let src = SourceText {
-        name: lib.to_string(),
+        name: r.includes().display(lib),
         text,
     };
     let value: Value = match serde_yaml::from_str(&src.text) {
@@ -159,7 +163,7 @@ fn read_from_library(
             return None;
         }
     };
-    let lr = Reader::included(&src);
+    let lr = Reader::included(&src, lib);
     let device = lr.root(&value).and_then(|root| {
         let version = root.integer("bridgebook-devices");
         if let Some(v) = version {
@@ -199,7 +203,15 @@ fn read_from_library(
     if let (Some(_), Value::Mapping(root)) = (&device, &value) {
         if let Some(Value::Mapping(devs)) = root.get("devices") {
             if let Some(v) = devs.get(name) {
-                r.resolve(record_key, v.clone());
+                // The canonical record keeps the device's library name with its data.
+                let mut v = v.clone();
+                if let Value::Mapping(m) = &mut v {
+                    m.insert(
+                        Value::String("name".into()),
+                        Value::String(name.to_string()),
+                    );
+                }
+                r.resolve(record_key, v);
             }
         }
     }
@@ -209,6 +221,10 @@ fn read_from_library(
 
 fn read_device(d: Section, name: String, library: Option<String>) -> Option<Device> {
     let r = d.reader();
+    // A device may carry its own name (an inline one, or a library entry's); a library
+    // entry is known by its key.
+    let written = d.optional_text("name");
+    let name = if name.is_empty() { written } else { name };
     let kind = d.choice("kind", &["igbt", "mosfet"]);
     let igbt = kind == Some("igbt");
     let (a, b) = match kind {

@@ -14,6 +14,11 @@ use std::cell::RefCell;
 pub trait Includes {
     /// The text of the file `name` as the record writes it, or why it cannot be read.
     fn read(&self, name: &str) -> Result<String, String>;
+
+    /// How messages name the file: by default as the record writes it.
+    fn display(&self, name: &str) -> String {
+        name.to_string()
+    }
 }
 
 /// No included files: a record given as text alone.
@@ -31,6 +36,11 @@ pub struct FolderIncludes(pub std::path::PathBuf);
 impl Includes for FolderIncludes {
     fn read(&self, name: &str) -> Result<String, String> {
         std::fs::read_to_string(self.0.join(name)).map_err(|e| e.to_string())
+    }
+
+    /// Beside the record's path as given, so that an editor can open it from the message.
+    fn display(&self, name: &str) -> String {
+        self.0.join(name).display().to_string()
     }
 }
 
@@ -66,10 +76,11 @@ impl<'a> Reader<'a> {
         }
     }
 
-    /// A reader for an included file, whose keys are written `file:path`.
-    pub fn included(src: &'a SourceText) -> Reader<'a> {
+    /// A reader for an included file, whose keys are written `name:path` with the file's
+    /// name as the record writes it (messages use `src.name`, which may be longer).
+    pub fn included(src: &'a SourceText, name: &str) -> Reader<'a> {
         Reader {
-            prefix: format!("{}:", src.name),
+            prefix: format!("{name}:"),
             ..Reader::new(src)
         }
     }
@@ -234,6 +245,14 @@ fn example(key: &str, unit: Unit) -> &'static str {
         "min_light_load_damping" => return "0.02",
         "light_load" => return "10 %",
         "r_ds_on_coefficient" => return "0.6 %/K",
+        "r_ds_on" | "r_ce" | "diode_r_f" => return "20 mohm",
+        "esr" | "inductor_resistance" => return "40 mohm",
+        "bleeder" => return "82 kohm",
+        "fall_time" => return "120 ns",
+        "dead_time" => return "1 us",
+        "stray_inductance" => return "40 nH",
+        "t_j_max" => return "175 degC",
+        "v_ce0" | "diode_v_f0" => return "0.9 V",
         "max_voltage_utilisation" | "max_current_utilisation" => return "80 %",
         "overshoot" => return "10 %",
         _ => {}

@@ -97,7 +97,17 @@ pub fn findings(design: &Design, s: &Sheet, subject: &str) -> Result<String, (St
         },
         "semiconductors" => match (v("semi.v_peak"), v("semi.p_bridge.nominal")) {
             (Some(vp), Some(pb)) => {
-                let dev = design.switches.as_ref().map(|s| s.device.name.clone()).unwrap_or_default();
+                let dev = design.switches.as_ref().map_or(String::new(), |s| {
+                    let kind = match s.device.kind {
+                        crate::record::DeviceKind::Igbt { .. } => "an IGBT with its diode",
+                        crate::record::DeviceKind::Mosfet { .. } => "a MOSFET with its body diode",
+                    };
+                    match (&s.device.name, &s.device.library) {
+                        (n, Some(lib)) if !n.is_empty() => format!("{kind}, {n} from {lib}"),
+                        (n, None) if !n.is_empty() => format!("{kind}, {n}"),
+                        _ => format!("{kind} written out in the record"),
+                    }
+                });
                 format!(
                     "Each switch position ({dev}) blocks at most {vp} with overshoot, {} of its rating, and carries at most {} peak, {} of its continuous rating. At DC nominal and rated load the bridge's semiconductors lose {pb} ({} in one switch, {} in its diode){}.",
                     v("semi.voltage_utilisation").unwrap_or_default(),

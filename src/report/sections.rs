@@ -524,11 +524,16 @@ impl Context<'_> {
                 format_value(t.value, Unit::Second),
                 format_value(s.value("limits.safe_touch_voltage"), Unit::Volt),
             ),
-            _ => "the DC-link capacitors (not evaluated in this package) usually hold far more".to_string(),
+            _ => "the DC-link capacitors (not evaluated in this package) usually hold far more, and how long they take to discharge is not known here".to_string(),
+        };
+        let wait = if s.get("dclink.t_discharge").is_some() {
+            "Wait at least that long, then measure before touching"
+        } else {
+            "Measure before touching"
         };
         let items = [
             format!("Hazardous voltage. The DC input reaches {v_dc} and {output} {v_pk}; both can kill. Work on this equipment only de-energised, isolated and verified dead, by qualified persons.{grid}"),
-            format!("Stored energy. Capacitors stay charged after the source is disconnected: {filter_energy}{bus}. Wait at least that long, then measure before touching; a bleeder can fail open, so never rely on it alone."),
+            format!("Stored energy. Capacitors stay charged after the source is disconnected: {filter_energy}{bus}. {wait}; a bleeder can fail open, so never rely on it alone."),
             "This package does not replace review and sealing by a licensed professional engineer. Its numbers are only as good as the record's inputs and the stated assumptions.".to_string(),
             "Local electrical codes, the authority having jurisdiction and the utility's interconnection rules prevail over anything in this package.".to_string(),
         ];
@@ -570,13 +575,17 @@ impl Context<'_> {
                 &format!("subjects: {}", names.join(", ")),
             ));
         };
-        let mut out = format!("#calc-section({})[\n", string(title));
         let (lines, entries): (Vec<&Quantity>, Vec<&Quantity>) = self
             .sheet
             .quantities
             .iter()
             .filter(|q| subject_of(&q.id) == *name)
             .partition(|q| is_spectral_line(&q.id) || is_load_line(&q.id));
+        if lines.is_empty() && entries.is_empty() {
+            // A subject the record does not describe (no switches, no DC link).
+            return Ok(String::new());
+        }
+        let mut out = format!("#calc-section({})[\n", string(title));
         for q in entries {
             out.push_str(&format!(
                 "#calc-entry(id: {}, name: {}, source: {}, input: {})[{}]\n",
@@ -668,7 +677,7 @@ impl Context<'_> {
             None if super::figures::PLOT_NAMES.contains(&name) => Ok(format!(
                 "#block(inset: 6pt, stroke: 0.5pt + gray)[{}]",
                 text(&format!(
-                    "Figure `{name}` is not drawn for this design: its data could not be computed (see the warnings in the check summary)."
+                    "Figure `{name}` is not drawn for this design: its data could not be computed, or the record does not describe what it shows (see the warnings in the check summary, and the record's optional sections)."
                 ))
             )),
             None => {
