@@ -64,6 +64,21 @@ fn flip_byte(path: &Path) {
     std::fs::write(path, bytes).unwrap();
 }
 
+/// Flips a byte in each file the manifest lists, one at a time, and runs `args`: each
+/// run must exit 3 (tampered) and name the file; the file is restored after.
+fn each_flipped_byte_is_named(dir: &Path, m: &Manifest, args: &[&str]) {
+    for f in &m.files {
+        let path = dir.join(&f.name);
+        let original = std::fs::read(&path).unwrap();
+        flip_byte(&path);
+        let o = run(args);
+        assert_eq!(o.status.code(), Some(3), "{}: {}", f.name, stdout(&o));
+        let named = format!("`{}` has changed", f.name);
+        assert!(stdout(&o).contains(&named), "{}", stdout(&o));
+        std::fs::write(&path, original).unwrap();
+    }
+}
+
 #[test]
 fn issue_5_rebuilds_are_byte_identical_with_manifest_and_archival_pdf() {
     let sc = Scratch::new("lc-repro");
@@ -213,19 +228,7 @@ fn issue_5_a_byte_flipped_in_any_file_is_detected_and_named() {
     assert_eq!(ok.status.code(), Some(0), "{}", stdout(&ok));
     assert!(stdout(&ok).contains("intact and current"));
     let (m, _) = Manifest::read(&pkg).unwrap();
-    for f in &m.files {
-        let path = pkg.join(&f.name);
-        let original = std::fs::read(&path).unwrap();
-        flip_byte(&path);
-        let o = run(&["verify", s(&pkg), "--trust", s(&public)]);
-        assert_eq!(o.status.code(), Some(3), "{}: {}", f.name, stdout(&o));
-        assert!(
-            stdout(&o).contains(&format!("`{}` has changed", f.name)),
-            "{}",
-            stdout(&o)
-        );
-        std::fs::write(&path, original).unwrap();
-    }
+    each_flipped_byte_is_named(&pkg, &m, &["verify", s(&pkg), "--trust", s(&public)]);
     // The manifest itself: every signature then signs another manifest.
     let mpath = pkg.join("manifest.json");
     let original = std::fs::read(&mpath).unwrap();
@@ -437,19 +440,7 @@ fn issue_5_archive_detects_tampering_and_survives_interrupted_adds() {
     let ok = run(&["archive", "verify", "--in", s(&vault)]);
     assert_eq!(ok.status.code(), Some(0), "{}", stdout(&ok));
     let entry = archive::entry_path(&vault, &archive::find(&vault, &mb.package_id).unwrap());
-    for f in &mb.files {
-        let path = entry.join(&f.name);
-        let original = std::fs::read(&path).unwrap();
-        flip_byte(&path);
-        let o = run(&["archive", "verify", "--in", s(&vault)]);
-        assert_eq!(o.status.code(), Some(3), "{}", f.name);
-        assert!(
-            stdout(&o).contains(&format!("`{}` has changed", f.name)),
-            "{}",
-            stdout(&o)
-        );
-        std::fs::write(&path, original).unwrap();
-    }
+    each_flipped_byte_is_named(&entry, &mb, &["archive", "verify", "--in", s(&vault)]);
     // An edited log line breaks the chain.
     let log = vault.join("log.jsonl");
     let text = std::fs::read_to_string(&log).unwrap();

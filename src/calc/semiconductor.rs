@@ -262,69 +262,74 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
             format!("semi.p_diode_cond.{key}"),
             format!("semi.p_diode_rec.{key}"),
         ];
-        let ti = used(s, &cond_t);
-        let ti: Vec<&str> = ti.iter().map(String::as_str).collect();
-        s.derive(
-            &ids[0],
-            &format!("Switch conduction loss, per position, {label}"),
-            &format!("P_(\"T,c\",\"{sh}\")"),
-            Unit::Watt,
-        )
-        .formula(&cond_t)
-        .inputs(&ti)
-        .source(integral())
-        .value(l.switch_conduction);
         let sw_formula = format!("f_\"sw\" (E_\"on\" + E_\"off\") {v_sym} / V_\"ref\" 1 / (2 pi) integral_(i > 0) i / I_\"ref\" dif theta, {current}");
-        s.derive(
-            &ids[1],
-            &format!("Switch switching loss, per position, {label}"),
-            &format!("P_(\"T,s\",\"{sh}\")"),
-            Unit::Watt,
-        )
-        .formula(&sw_formula)
-        .inputs(&[
-            "bridge.f_sw",
-            "semi.e_on",
-            "semi.e_off",
-            dc_id,
-            "semi.v_ref",
-            "semi.i_ref",
-            "semi.i_leg",
-            "semi.phi",
-        ])
-        .source(scaling())
-        .value(l.switch_switching);
-        let di = used(s, &cond_d);
-        let di: Vec<&str> = di.iter().map(String::as_str).collect();
-        s.derive(
-            &ids[2],
-            &format!("Diode conduction loss, per position, {label}"),
-            &format!("P_(\"D,c\",\"{sh}\")"),
-            Unit::Watt,
-        )
-        .formula(&cond_d)
-        .inputs(&di)
-        .source(integral())
-        .value(l.diode_conduction);
         let rec_formula = format!("f_\"sw\" E_\"rec\" {v_sym} / V_\"ref\" 1 / (2 pi) integral_(i < 0) abs(i) / I_\"ref\" dif theta, {current}");
-        s.derive(
-            &ids[3],
-            &format!("Diode recovery loss, per position, {label}"),
-            &format!("P_(\"D,r\",\"{sh}\")"),
-            Unit::Watt,
-        )
-        .formula(&rec_formula)
-        .inputs(&[
-            "bridge.f_sw",
-            "semi.e_rec",
-            dc_id,
-            "semi.v_ref",
-            "semi.i_ref",
-            "semi.i_leg",
-            "semi.phi",
-        ])
-        .source(scaling())
-        .value(l.diode_recovery);
+        let strings = |v: &[&str]| -> Vec<String> { v.iter().map(|x| x.to_string()).collect() };
+        // The four parts of a position's loss: (name, symbol, formula, inputs, source, value).
+        let parts = [
+            (
+                "Switch conduction loss",
+                "T,c",
+                cond_t.clone(),
+                used(s, &cond_t),
+                integral(),
+                l.switch_conduction,
+            ),
+            (
+                "Switch switching loss",
+                "T,s",
+                sw_formula,
+                strings(&[
+                    "bridge.f_sw",
+                    "semi.e_on",
+                    "semi.e_off",
+                    dc_id,
+                    "semi.v_ref",
+                    "semi.i_ref",
+                    "semi.i_leg",
+                    "semi.phi",
+                ]),
+                scaling(),
+                l.switch_switching,
+            ),
+            (
+                "Diode conduction loss",
+                "D,c",
+                cond_d.clone(),
+                used(s, &cond_d),
+                integral(),
+                l.diode_conduction,
+            ),
+            (
+                "Diode recovery loss",
+                "D,r",
+                rec_formula,
+                strings(&[
+                    "bridge.f_sw",
+                    "semi.e_rec",
+                    dc_id,
+                    "semi.v_ref",
+                    "semi.i_ref",
+                    "semi.i_leg",
+                    "semi.phi",
+                ]),
+                scaling(),
+                l.diode_recovery,
+            ),
+        ];
+        for (id, (name, sub, formula, inputs, source, value)) in ids.iter().zip(parts) {
+            let inputs: Vec<&str> = inputs.iter().map(String::as_str).collect();
+            s.derive(
+                id,
+                &format!("{name}, per position, {label}"),
+                &format!("P_(\"{sub}\",\"{sh}\")"),
+                Unit::Watt,
+            )
+            .formula(&formula)
+            .inputs(&inputs)
+            .source(source)
+            .value(value);
+        }
         let syms: Vec<String> = ids.iter().map(|id| s.symbol(id)).collect();
         s.derive(
             &format!("semi.p_switch.{key}"),
