@@ -18,6 +18,7 @@ pub mod output_quality;
 pub mod ripple;
 pub mod semiconductor;
 pub mod spectrum;
+pub mod switch_stress;
 pub mod switching;
 pub mod thermal;
 
