@@ -152,7 +152,7 @@ fn curve(d: &Design, s: &mut Sheet, model: &StageModel) {
                 .map(|(id, wt)| format!("{wt} {}", s.symbol(id)))
                 .collect();
             let ids: Vec<&str> = terms.iter().map(|(id, _)| id.as_str()).collect();
-            let value: f64 = terms.iter().map(|(id, wt)| wt * s.value(id)).sum();
+            let value = w.weighted(|k| s.value(&efficiency_id(key, k)));
             let (name, sym) = match w.name {
                 "cec" => ("CEC weighted efficiency", format!("eta_(\"CEC\",\"{sh}\")")),
                 _ => (

@@ -33,6 +33,13 @@ pub struct Weighting {
     pub citation: &'static Citation,
 }
 
+impl Weighting {
+    /// The weighted efficiency of a curve given as efficiency by load fraction.
+    pub fn weighted(&self, eta: impl Fn(f64) -> f64) -> f64 {
+        self.points.iter().map(|(k, w)| w * eta(*k)).sum()
+    }
+}
+
 pub static WEIGHTINGS: [Weighting; 2] = [
     Weighting {
         name: "cec",
@@ -71,6 +78,26 @@ mod tests {
             let sum: f64 = w.points.iter().map(|p| p.1).sum();
             assert!((sum - 1.0).abs() < 1e-12, "{}", w.name);
         }
+    }
+
+    #[test]
+    fn a_hand_computed_curve() {
+        // Worked by hand (common practice): an inverter at 90.0 / 94.0 / 96.0 / 97.0 /
+        // 97.5 / 97.6 / 97.4 % at 5 / 10 / 20 / 30 / 50 / 75 / 100 % load.
+        // CEC: .04(.94) + .05(.96) + .12(.97) + .21(.975) + .53(.976) + .05(.974) = .97273
+        // EU:  .03(.90) + .06(.94) + .13(.96) + .10(.97) + .48(.975) + .20(.974) = .96800
+        let curve = |k: f64| match (k * 100.0).round() as u32 {
+            5 => 0.90,
+            10 => 0.94,
+            20 => 0.96,
+            30 => 0.97,
+            50 => 0.975,
+            75 => 0.976,
+            100 => 0.974,
+            _ => f64::NAN,
+        };
+        assert!((WEIGHTINGS[0].weighted(curve) - 0.97273).abs() < 1e-12);
+        assert!((WEIGHTINGS[1].weighted(curve) - 0.968).abs() < 1e-12);
     }
 
     #[test]
