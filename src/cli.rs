@@ -1,7 +1,10 @@
 //! The command line. Each `///` comment below is the help text of its command or option.
 //!
 //! Exit codes: 0 every design check passes; 1 a design check fails (a package is still
-//! written, and marked as failing); 2 bad input or usage (nothing is written).
+//! written, and marked as failing); 2 bad input or usage (nothing is written). The
+//! lifecycle commands use 0 and 1 for "unchanged / changed" (`diff`) and "current /
+//! drifted" (`verify`), and add 3 (tampered or damaged) and 4 (a signature invalid or
+//! untrusted).
 
 use crate::calc;
 use crate::diag::Diagnostics;
@@ -31,7 +34,7 @@ pub const EXIT_BAD_INPUT: u8 = 2;
     version,
     about,
     long_about = None,
-    after_help = "Exit codes: 0 all design checks pass, 1 a design check fails (the package is still written, marked as failing), 2 bad input or usage (nothing is written)."
+    after_help = "Exit codes: 0 all design checks pass, 1 a design check fails (the package is still written, marked as failing), 2 bad input or usage (nothing is written). diff: 0 no change, 1 changed. verify: 0 intact and current, 1 drifted, 3 tampered, 4 signature invalid or untrusted. archive verify: 3 damaged."
 )]
 pub struct Cli {
     #[command(subcommand)]
@@ -40,7 +43,10 @@ pub struct Cli {
 
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Evaluate a design record and write its package: package.pdf, results.json, plots.
+    /// Evaluate a design record and write its package: package.pdf (PDF/A-3b with the
+    /// record and results attached), results.json, record.json, plots and manifest.json.
+    ///
+    /// A package that has been signed is never overwritten by a rebuild that differs.
     Build {
         /// The design record (YAML).
         design: PathBuf,
@@ -141,6 +147,9 @@ pub enum ArchiveAction {
         /// The archive folder (created if missing).
         #[arg(long)]
         to: PathBuf,
+        /// Require a signature by this public key (file or 64 hex digits); repeat for several.
+        #[arg(long)]
+        trust: Vec<String>,
     },
     /// List the archive's entries in the order they were added.
     List {

@@ -364,7 +364,7 @@ fn issue_5_archive_detects_tampering_and_survives_interrupted_adds() {
     .enumerate()
     {
         let fail_at = step;
-        let r = archive::add(&b, &vault, &mut |s| {
+        let r = archive::add(&b, &vault, &[], &mut |s| {
             if s == fail_at {
                 Err(std::io::Error::other("injected failure"))
             } else {
@@ -456,4 +456,139 @@ fn issue_5_archive_detects_tampering_and_survives_interrupted_adds() {
         "{}",
         stdout(&o)
     );
+}
+
+#[test]
+fn issue_5_signed_packages_are_kept_and_damaged_signatures_fail() {
+    let sc = Scratch::new("lc-signed");
+    let out = sc.path().join("out");
+    let pkg = build("ridge-pump-b.yaml", &out);
+    let (key, public) = keygen(sc.path(), "checker");
+    sign(&pkg, &key, "checked", "C. Checker");
+    // The same record rebuilt: the same bytes, so the signatures stay and still hold.
+    build("ridge-pump-b.yaml", &out);
+    let o = run(&["verify", s(&pkg), "--trust", s(&public)]);
+    assert_eq!(o.status.code(), Some(0), "{}", stdout(&o));
+    // A changed record built into the signed folder is refused, and nothing is written.
+    let text =
+        common::demo("ridge-pump-b.yaml").replace("auxiliary_power: 15 W", "auxiliary_power: 16 W");
+    let changed = sc.write("changed.yaml", &text);
+    std::fs::create_dir_all(sc.path().join("parts")).unwrap();
+    std::fs::copy(
+        format!("{}/designs/parts/devices.yaml", env!("CARGO_MANIFEST_DIR")),
+        sc.path().join("parts/devices.yaml"),
+    )
+    .unwrap();
+    let before = std::fs::read(pkg.join("manifest.json")).unwrap();
+    let o = run(&["build", s(&changed), "--out", s(&out)]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("holds a signed package"),
+        "{}",
+        stderr(&o)
+    );
+    assert_eq!(std::fs::read(pkg.join("manifest.json")).unwrap(), before);
+    // A signatures file that is not one: a signature problem (4), not bad usage.
+    let sigs = pkg.join("signatures.json");
+    let original = std::fs::read(&sigs).unwrap();
+    std::fs::write(&sigs, "{ not json").unwrap();
+    let o = run(&["verify", s(&pkg)]);
+    assert_eq!(o.status.code(), Some(4), "{}", stdout(&o));
+    assert!(stdout(&o).contains("UNREADABLE"), "{}", stdout(&o));
+    std::fs::write(&sigs, original).unwrap();
+    // The archive can require a trusted signature.
+    let (_, other) = keygen(sc.path(), "stranger");
+    let vault = sc.path().join("vault");
+    let o = run(&[
+        "archive",
+        "add",
+        s(&pkg),
+        "--to",
+        s(&vault),
+        "--trust",
+        s(&other),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("no signature of the package is by a trusted key"));
+    let o = run(&[
+        "archive",
+        "add",
+        s(&pkg),
+        "--to",
+        s(&vault),
+        "--trust",
+        s(&public),
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+}
+
+#[test]
+fn issue_5_a_log_cut_short_is_found_and_adds_take_turns() {
+    let sc = Scratch::new("lc-cut");
+    let out = sc.path().join("out");
+    let vault = sc.path().join("vault");
+    for name in ["ridge-pump-a.yaml", "ridge-pump-b.yaml", "alder-hut.yaml"] {
+        let pkg = build(name, &out);
+        let o = run(&["archive", "add", s(&pkg), "--to", s(&vault)]);
+        assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    }
+    let log = vault.join("log.jsonl");
+    let text = std::fs::read_to_string(&log).unwrap();
+    // The last two lines cut off: the chain of what is left is sound, but entry 2's own
+    // copy of its line is no longer in the log.
+    let kept: String = text.lines().take(1).map(|l| format!("{l}\n")).collect();
+    std::fs::write(&log, kept).unwrap();
+    let o = run(&["archive", "verify", "--in", s(&vault)]);
+    assert_eq!(o.status.code(), Some(3), "{}", stdout(&o));
+    assert!(
+        stdout(&o).contains("which the log no longer has"),
+        "{}",
+        stdout(&o)
+    );
+    // A line that is not JSON is damage (3), not bad usage.
+    std::fs::write(&log, format!("{text}garbage\n")).unwrap();
+    let o = run(&["archive", "verify", "--in", s(&vault)]);
+    assert_eq!(o.status.code(), Some(3), "{}", stdout(&o));
+    std::fs::write(&log, &text).unwrap();
+    // A second add while one runs (its lock present) is refused.
+    std::fs::write(vault.join(".lock"), "").unwrap();
+    let pkg = build("fen-barn.yaml", &out);
+    let o = run(&["archive", "add", s(&pkg), "--to", s(&vault)]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("another `archive add` is running"),
+        "{}",
+        stderr(&o)
+    );
+    std::fs::remove_file(vault.join(".lock")).unwrap();
+    let o = run(&["archive", "add", s(&pkg), "--to", s(&vault)]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let o = run(&["archive", "verify", "--in", s(&vault)]);
+    assert_eq!(o.status.code(), Some(0), "{}", stdout(&o));
+}
+
+#[test]
+fn issue_5_diff_pdf_to_a_bare_file_name() {
+    // `--pdf delta.pdf` in the current folder (a path with no folder part).
+    let sc = Scratch::new("lc-bare");
+    let o = std::process::Command::new(env!("CARGO_BIN_EXE_bridgebook"))
+        .current_dir(sc.path())
+        .args([
+            "diff",
+            &design("ridge-pump-a.yaml"),
+            &design("ridge-pump-b.yaml"),
+            "--pdf",
+            "delta.pdf",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert!(std::fs::read(sc.path().join("delta.pdf"))
+        .unwrap()
+        .starts_with(b"%PDF"));
 }

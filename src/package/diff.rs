@@ -121,8 +121,11 @@ pub struct QuantityChange {
     pub unit: String,
     pub old: Option<f64>,
     pub new: Option<f64>,
-    /// (new - old) / |old|; `None` where old is zero or either is not a number.
+    /// (new - old) / |old|; `None` where old is zero, either is not a number, or the
+    /// unit is a Celsius reading (whose zero is arbitrary).
     pub relative: Option<f64>,
+    /// new - old, in the stored unit (kelvin for a Celsius reading).
+    pub absolute: Option<f64>,
 }
 
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -238,16 +241,21 @@ pub fn compare(old: &Side, new: &Side, tolerance: f64) -> Delta {
     for (id, q) in &qa {
         if let Some(r) = qb.get(id) {
             let (x, y) = (q["value"].as_f64(), r["value"].as_f64());
-            if differs(x, y, tolerance) {
+            let unit = r["unit"].as_str().unwrap_or("1").to_string();
+            // A Celsius reading is compared on the absolute (kelvin) scale.
+            let celsius = unit == "degC";
+            let offset = |v: Option<f64>| v.map(|v| if celsius { v + 273.15 } else { v });
+            if differs(offset(x), offset(y), tolerance) {
                 quantities.push(QuantityChange {
                     id: id.clone(),
-                    unit: r["unit"].as_str().unwrap_or("1").to_string(),
                     old: x,
                     new: y,
                     relative: match (x, y) {
-                        (Some(x), Some(y)) if x != 0.0 => Some((y - x) / x.abs()),
+                        (Some(x), Some(y)) if x != 0.0 && !celsius => Some((y - x) / x.abs()),
                         _ => None,
                     },
+                    absolute: x.zip(y).map(|(x, y)| y - x),
+                    unit,
                 });
             }
         }
@@ -301,15 +309,27 @@ pub fn compare(old: &Side, new: &Side, tolerance: f64) -> Delta {
     }
 }
 
+/// A stored value as people read it. Lives are stored in seconds under the code `s`;
+/// anything of 100 h or more is shown in hours.
 fn shown(v: Option<f64>, unit: &str) -> String {
-    v.map_or("-".to_string(), |v| format_value(v, Unit::from_code(unit)))
+    v.map_or("-".to_string(), |v| {
+        let u = match Unit::from_code(unit) {
+            Unit::Second if v.abs() >= 100.0 * 3600.0 => Unit::Hour,
+            other => other,
+        };
+        format_value(v, u)
+    })
 }
 
-fn percent(r: Option<f64>) -> String {
-    r.map_or("new".to_string(), |r| {
-        let sign = if r > 0.0 { "+" } else { "" };
-        format!("{sign}{} %", format_number(100.0 * r, 4))
-    })
+/// The change of a quantity: relative in percent, or for a Celsius reading the
+/// difference in kelvin.
+fn change(q: &QuantityChange) -> String {
+    let signed = |x: f64| if x > 0.0 { "+" } else { "" };
+    match (q.relative, q.absolute) {
+        (Some(r), _) => format!("{}{} %", signed(r), format_number(100.0 * r, 4)),
+        (None, Some(a)) if q.unit == "degC" => format!("{}{} K", signed(a), format_number(a, 4)),
+        _ => "new".to_string(),
+    }
 }
 
 fn verdict(p: Option<bool>) -> &'static str {
@@ -368,7 +388,7 @@ pub fn table(d: &Delta) -> String {
                 q.id,
                 shown(q.old, &q.unit),
                 shown(q.new, &q.unit),
-                percent(q.relative)
+                change(q)
             ));
         }
     }
@@ -473,7 +493,7 @@ pub fn typst_source(d: &Delta, date: &str) -> String {
                     cell(&q.id),
                     cell(&shown(q.old, &q.unit)),
                     cell(&shown(q.new, &q.unit)),
-                    cell(&percent(q.relative))
+                    cell(&change(q))
                 )
             })
             .collect();

@@ -104,6 +104,12 @@ impl Manifest {
     /// names the file. Files present but not listed count too (a manifest and the
     /// signatures file excepted).
     pub fn check_files(&self, dir: &Path) -> Vec<String> {
+        self.check_files_allowing(dir, &[])
+    }
+
+    /// As [`Manifest::check_files`], with more file names that may stand beside the
+    /// listed ones (an archive entry's own log line).
+    pub fn check_files_allowing(&self, dir: &Path, allowed: &[&str]) -> Vec<String> {
         let mut problems = Vec::new();
         for f in &self.files {
             match std::fs::read(dir.join(&f.name)) {
@@ -131,6 +137,7 @@ impl Manifest {
                 .filter(|n| {
                     n != MANIFEST
                         && n != super::signature::SIGNATURES
+                        && !allowed.contains(&n.as_str())
                         && !self.files.iter().any(|f| &f.name == n)
                 })
                 .collect();

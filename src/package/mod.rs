@@ -169,6 +169,8 @@ pub enum BuildError {
     },
     /// typst rejected the generated source: a defect of a template or of the engine.
     Typeset(String),
+    /// The folder holds a signed package that this build would change.
+    Signed { dir: PathBuf, signatures: usize },
 }
 
 impl std::fmt::Display for BuildError {
@@ -179,6 +181,11 @@ impl std::fmt::Display for BuildError {
                 f,
                 "error: cannot write `{}`: {error}\n  = hint: check that the output folder is writable and the disk has space; nothing was changed",
                 path.display()
+            ),
+            BuildError::Signed { dir, signatures } => write!(
+                f,
+                "error: `{}` holds a signed package ({signatures} signature(s)) that this build would change; nothing was written\n  = hint: a signed package is never overwritten: archive it with `bridgebook archive add`, give the changed design its own revision, or build into another `--out`",
+                dir.display()
             ),
             BuildError::Typeset(t) => write!(
                 f,
@@ -312,7 +319,11 @@ pub fn write_atomic(dir: &Path, files: &[(String, Vec<u8>)]) -> Result<(), Build
 /// new one, never half of either.
 pub fn write_file_atomic(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     use std::io::Write;
-    let dir = path.parent().unwrap_or(Path::new("."));
+    // A bare file name has an empty parent: the current folder.
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
     let name = path
         .file_name()
         .map_or("file".into(), |n| n.to_string_lossy().to_string());
@@ -338,6 +349,30 @@ pub fn sync_dir(dir: &Path) -> std::io::Result<()> {
     }
 }
 
+/// A rebuild of a signed package: byte for byte the same manifest keeps its
+/// signatures (they still hold); a different one is refused, since replacing the
+/// folder would throw the signed-off package away.
+fn keep_signatures(dir: &Path, files: &mut Vec<(String, Vec<u8>)>) -> Result<(), BuildError> {
+    let Ok(old) = std::fs::read(dir.join(signature::SIGNATURES)) else {
+        return Ok(());
+    };
+    let count =
+        serde_json::from_slice::<signature::Signatures>(&old).map_or(0, |s| s.signatures.len());
+    let new_manifest = files
+        .iter()
+        .find(|(n, _)| n == manifest::MANIFEST)
+        .map(|(_, b)| b.as_slice());
+    let old_manifest = std::fs::read(dir.join(manifest::MANIFEST)).ok();
+    if count > 0 && old_manifest.as_deref() != new_manifest {
+        return Err(BuildError::Signed {
+            dir: dir.to_path_buf(),
+            signatures: count,
+        });
+    }
+    files.push((signature::SIGNATURES.to_string(), old));
+    Ok(())
+}
+
 /// Builds the package of a record into `out` and returns where it went.
 pub fn build(
     record: &Record,
@@ -345,8 +380,9 @@ pub fn build(
     templates: &Templates,
     out: &Path,
 ) -> Result<Built, BuildError> {
-    let contents = assemble(record, sheet, templates)?;
+    let mut contents = assemble(record, sheet, templates)?;
     let dir = package_dir(out, &record.design);
+    keep_signatures(&dir, &mut contents.files)?;
     write_atomic(&dir, &contents.files)?;
     Ok(Built {
         dir,

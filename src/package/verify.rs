@@ -31,6 +31,8 @@ pub struct Report {
     pub signatures: Vec<(SignatureEntry, Verdict)>,
     /// A trust list was given but no valid signature is by a key on it.
     pub no_trusted_signature: bool,
+    /// The signatures file exists but cannot be read.
+    pub signature_file_error: Option<String>,
     /// Quantities and checks that differ between the package and a re-evaluation.
     pub drift: Option<Delta>,
     /// Why the record could not be re-evaluated, if it could not.
@@ -44,6 +46,7 @@ impl Report {
         if !self.file_problems.is_empty() {
             Outcome::Tampered
         } else if self.no_trusted_signature
+            || self.signature_file_error.is_some()
             || self
                 .signatures
                 .iter()
@@ -64,9 +67,11 @@ impl Report {
 pub fn verify(dir: &Path, trusted: &[String], tolerance: f64) -> Result<Report, String> {
     let (manifest, manifest_bytes) = Manifest::read(dir)?;
     let file_problems = manifest.check_files(dir);
-    let sigs = signature::read(dir)?;
+    let (sigs, signature_file_error) = match signature::read(dir) {
+        Ok(s) => (s.signatures, None),
+        Err(e) => (Vec::new(), Some(e)),
+    };
     let signatures: Vec<(SignatureEntry, Verdict)> = sigs
-        .signatures
         .into_iter()
         .map(|e| {
             let v = signature::check(&e, &manifest_bytes, trusted);
@@ -77,7 +82,17 @@ pub fn verify(dir: &Path, trusted: &[String], tolerance: f64) -> Result<Report, 
         && !signatures
             .iter()
             .any(|(_, v)| *v == Verdict::Valid { trusted: true });
-    let engine_now = super::engine_hashes(&Templates::builtin()).1;
+    // The engine now, with the templates the package was built with: a package built
+    // with its own templates is not "another engine".
+    let engine_now = super::sha256_hex(
+        format!(
+            "{}|{}|{}",
+            super::ENGINE_VERSION,
+            super::SOURCE_SHA256,
+            manifest.templates_sha256
+        )
+        .as_bytes(),
+    );
     let (drift, reevaluation_error) = if file_problems.is_empty() {
         match reevaluate(dir, tolerance) {
             Ok(d) => (Some(d), None),
@@ -92,6 +107,7 @@ pub fn verify(dir: &Path, trusted: &[String], tolerance: f64) -> Result<Report, 
         file_problems,
         signatures,
         no_trusted_signature,
+        signature_file_error,
         drift,
         reevaluation_error,
         engine_now,
@@ -153,6 +169,9 @@ pub fn describe(r: &Report) -> String {
             e.date,
             &e.public_key[..16.min(e.public_key.len())]
         ));
+    }
+    if let Some(e) = &r.signature_file_error {
+        out.push_str(&format!("  signatures: UNREADABLE: {e}\n"));
     }
     if r.no_trusted_signature {
         out.push_str("  signatures: none by a trusted key\n");
