@@ -260,8 +260,12 @@ pub fn archive(action: &ArchiveAction, out: &mut dyn Write) -> Result<u8, Failur
             Ok(0)
         }
         ArchiveAction::List { archive: dir } => {
-            let lines = archive::read_log(dir)
-                .map_err(|e| fail(e, "give the archive folder with `--in`"))?;
+            let lines = archive::read_log(dir).map_err(|e| {
+                fail(
+                    e,
+                    "`bridgebook archive verify` tells what is wrong with the archive",
+                )
+            })?;
             if lines.is_empty() {
                 writeln!(out, "the archive `{}` is empty", dir.display())?;
             }

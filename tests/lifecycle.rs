@@ -122,10 +122,20 @@ fn issue_5_rebuilds_are_byte_identical_with_manifest_and_archival_pdf() {
     let on_disk: serde_json::Value =
         serde_json::from_slice(&std::fs::read(a.join("results.json")).unwrap()).unwrap();
     assert_eq!(results, on_disk);
-    // The revision block prints the package id.
+    // The package id of the manifest is the stamp's, and the revision block prints it.
     assert_eq!(
         results["stamp"]["package_id"].as_str().unwrap(),
         ma.package_id
+    );
+    let rec = common::load(&common::demo("fen-barn.yaml"));
+    let sheet = bridgebook::calc::evaluate(&rec.design);
+    let templates = bridgebook::report::Templates::builtin();
+    let stamp = bridgebook::package::stamp(&rec, &templates);
+    let r = bridgebook::report::render(&rec, &sheet, &stamp, &templates).unwrap();
+    assert!(
+        r.typst
+            .contains(&format!("package-id: \"{}\"", ma.package_id)),
+        "package id not in the revision block"
     );
 }
 
@@ -435,6 +445,11 @@ fn issue_5_archive_detects_tampering_and_survives_interrupted_adds() {
             );
         }
     }
+
+    // An entry is itself a package that `verify` accepts (its log line aside).
+    let entry = archive::entry_path(&vault, &archive::find(&vault, &mb.package_id).unwrap());
+    let o = run(&["verify", s(&entry)]);
+    assert_eq!(o.status.code(), Some(0), "{}", stdout(&o));
 
     // A byte flipped in any file of an entry is found and the file named.
     let ok = run(&["archive", "verify", "--in", s(&vault)]);

@@ -649,3 +649,38 @@ fn the_record_hash_covers_the_library_device() {
     let s2 = bridgebook::package::stamp(&b, &bridgebook::report::Templates::builtin());
     assert_ne!(s1.record_sha256, s2.record_sha256);
 }
+
+#[test]
+fn a_thermal_section_without_switches_still_sets_the_capacitor_ambient() {
+    // The bank's hot spot is the ambient plus I^2 ESR R_th (steady state; common
+    // practice): with `thermal` but no `switches`, that ambient is the record's.
+    let text = demo("alder-hut.yaml");
+    let start = text.find("switches:").unwrap();
+    let end = text.find("thermal:").unwrap();
+    let text = format!("{}{}", &text[..start], &text[end..]);
+    let s = evaluate(&text);
+    assert!(s.get("semi.p_bridge.nominal").is_none());
+    assert_eq!(s.value("thermal.t_a"), 40.0);
+    let i = s
+        .value("dclink.i_rms.min")
+        .max(s.value("dclink.i_rms.nominal"))
+        .max(s.value("dclink.i_rms.max"));
+    let want = 40.0 + i * i * 0.060 * 3.0;
+    assert!((s.value("dclink.t_hotspot") - want).abs() < 1e-9);
+}
+
+#[test]
+fn no_standard_overcurrent_rating_above_6000_a_gives_a_warning() {
+    // NEC 240.6(A) ends at 6000 A (from memory): 5 MW at 400 V three-phase is 7217 A,
+    // 9021 A at 125 %, beyond the list.
+    let text = edit(&demo("fen-barn.yaml"), "power: 15 kW", "power: 5 MW");
+    let s = evaluate(&text);
+    assert!(s.get("ratings.ocpd").is_none());
+    assert!(
+        rel(
+            s.value("ratings.ocpd_min"),
+            1.25 * 5e6 / (3f64.sqrt() * 400.0)
+        ) < 1e-9
+    );
+    assert!(s.warnings.iter().any(|w| w.text.contains("240.6(A)")));
+}

@@ -90,9 +90,8 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
             "phi_\"sw\"".into()
         };
         let m_sym = sym(&m_id);
-        let ins = format!(
-            "(1 + {m_sym} sin theta) / 2 \"and\" {i_leg} sin(theta - {phi}) \"of each leg\""
-        );
+        let duty = super::leg_current::duty_formula(d, &m_sym);
+        let ins = format!("{duty} \"and\" {i_leg} sin(theta - {phi}) \"of each leg\"");
         let what = if half { "each half" } else { "the bank" };
         s.derive(
             &format!("dclink.i_dc.{key}"),
@@ -264,11 +263,22 @@ fn voltage_ripple(d: &Design, s: &mut Sheet, c: f64) {
 
 fn life(d: &Design, s: &mut Sheet, dc: &DcLink, worst: &str) {
     let label = DC_POINTS.iter().find(|p| p.0 == worst).map_or("", |p| p.1);
-    let t_a_id = if s.get("thermal.t_a").is_some() {
-        "thermal.t_a".to_string()
-    } else {
+    let t_a_id = match (s.get("thermal.t_a"), &d.thermal) {
+        (Some(_), _) => "thermal.t_a".to_string(),
+        // A thermal section without switches: its ambient still holds for the bank.
+        (None, Some(th)) => {
+            given(
+                s,
+                "thermal.t_a",
+                "Highest ambient temperature",
+                "T_a",
+                &th.ambient_max,
+                Unit::DegreeCelsius,
+            );
+            "thermal.t_a".to_string()
+        }
         // No thermal section: the capacitor's ambient is needed anyway.
-        "dclink.t_a".to_string()
+        (None, None) => "dclink.t_a".to_string(),
     };
     if t_a_id == "dclink.t_a" {
         s.input(

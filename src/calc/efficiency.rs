@@ -220,6 +220,14 @@ fn ratings(s: &mut Sheet) {
     .inputs(&["ratings.i_out"])
     .source(nec::CONTINUOUS_FACTOR.source())
     .value(needed);
+    let standard = nec::next_standard_rating(needed);
+    if !standard.is_finite() {
+        s.warn(
+            "ratings.ocpd_min",
+            "the overcurrent device needed is above the largest standard rating of NEC 240.6(A) (6000 A): it must be specified for this installation",
+        );
+        return;
+    }
     s.derive(
         "ratings.ocpd",
         "Overcurrent device rating, next standard size (local codes govern)",
@@ -229,5 +237,5 @@ fn ratings(s: &mut Sheet) {
     .formula("\"next standard rating\" >= I_(\"OCPD,min\")")
     .inputs(&["ratings.ocpd_min"])
     .source(nec::STANDARD_RATINGS.source())
-    .value(nec::next_standard_rating(needed));
+    .value(standard);
 }

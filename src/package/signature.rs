@@ -174,7 +174,7 @@ pub fn sign(
         .any(|s| s.public_key == entry.public_key && s.role == entry.role)
     {
         return Err(format!(
-            "this key has already signed the package as `{role}`"
+            "this key has already signed the package as `{role}`\n  = hint: each key signs a package once per role; another signer uses their own key"
         ));
     }
     all.signatures.push(entry.clone());
