@@ -12,7 +12,9 @@
 //! point iteration; an IGBT's datasheet values are taken at its hot junction as
 //! entered, and need no iteration.
 
-use super::bridge_leg::{position_losses, Channel, DeviceData, LegPoint, PositionLosses};
+use super::bridge_leg::{
+    position_losses, Channel, DeviceData, LegIntegrals, LegPoint, PositionLosses,
+};
 use super::modulation::DC_POINTS;
 use super::{given, limit_quantity, limit_source};
 use crate::record::{Design, DeviceKind, Switches, Thermal};
@@ -85,13 +87,24 @@ impl StageModel {
     /// Losses and temperatures at ambient `t_a`; a MOSFET's by iteration to 0.001 K.
     /// A loop that does not settle (thermal runaway) returns infinite temperatures.
     pub fn operate(&self, p: &LegPoint, t_a: f64) -> (f64, PositionLosses, Temperatures) {
+        self.operate_with(p, &LegIntegrals::of(p, self.device.dead_time), t_a)
+    }
+
+    /// As [`StageModel::operate`], with the leg's integrals already taken: the losses of
+    /// any temperature then follow without another pass over the period.
+    pub fn operate_with(
+        &self,
+        p: &LegPoint,
+        g: &LegIntegrals,
+        t_a: f64,
+    ) -> (f64, PositionLosses, Temperatures) {
         if self.mosfet.is_none() {
-            let l = position_losses(p, &self.device);
+            let l = g.losses(p, &self.device);
             return (f64::NAN, l, self.temperatures(&l, t_a));
         }
         let mut t_j = t_a;
         for _ in 0..200 {
-            let l = position_losses(p, &self.device_at(t_j));
+            let l = g.losses(p, &self.device_at(t_j));
             let t = self.temperatures(&l, t_a);
             if (t.switch - t_j).abs() < 1e-3 {
                 return (t_j, l, t);
@@ -101,7 +114,7 @@ impl StageModel {
             }
             t_j = t.switch;
         }
-        let l = position_losses(p, &self.device_at(t_j));
+        let l = g.losses(p, &self.device_at(t_j));
         let inf = Temperatures {
             heatsink: f64::INFINITY,
             case: f64::INFINITY,
@@ -115,7 +128,8 @@ impl StageModel {
     /// bisection (losses rise with temperature for a MOSFET, so it is solved, not
     /// scaled).
     pub fn ambient_for(&self, p: &LegPoint, t_limit: f64) -> f64 {
-        let hottest = |t_a: f64| self.operate(p, t_a).2.hottest();
+        let g = LegIntegrals::of(p, self.device.dead_time);
+        let hottest = |t_a: f64| self.operate_with(p, &g, t_a).2.hottest();
         let (mut lo, mut hi) = (t_limit - 1000.0, t_limit);
         if hottest(lo) > t_limit {
             return f64::NAN;

@@ -138,9 +138,10 @@ fn junction_temperature(d: &Design, s: &Sheet) -> Result<Figure, PlotError> {
     let lo = hi - 80.0;
     let n = 80;
     let (mut sw, mut di) = (Vec::new(), Vec::new());
+    let g = crate::calc::bridge_leg::LegIntegrals::of(&a, model.device.dead_time);
     for i in 0..=n {
         let ta = lo + (hi - lo) * i as f64 / n as f64;
-        let (_, _, t) = model.operate(&a, ta);
+        let (_, _, t) = model.operate_with(&a, &g, ta);
         if t.switch.is_finite() && t.diode.is_finite() {
             sw.push((ta, t.switch));
             di.push((ta, t.diode));
