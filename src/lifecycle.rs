@@ -214,14 +214,9 @@ pub fn sign(
     Ok(0)
 }
 
-pub fn verify(
-    package: &Path,
-    trust: &[String],
-    tol: Option<&str>,
-    out: &mut dyn Write,
-) -> Result<u8, Failure> {
-    let tol = tolerance(tol)?;
-    let trusted = trust
+/// The public keys given with `--trust`, as hex.
+fn trusted_keys(trust: &[String]) -> Result<Vec<String>, Failure> {
+    trust
         .iter()
         .map(|t| signature::read_public_key(t))
         .collect::<Result<Vec<_>, _>>()
@@ -230,7 +225,17 @@ pub fn verify(
                 e,
                 "give `--trust` a `.pub` file from `keygen` or 64 hex digits",
             )
-        })?;
+        })
+}
+
+pub fn verify(
+    package: &Path,
+    trust: &[String],
+    tol: Option<&str>,
+    out: &mut dyn Write,
+) -> Result<u8, Failure> {
+    let tol = tolerance(tol)?;
+    let trusted = trusted_keys(trust)?;
     let report = verify::verify(package, &trusted, tol)
         .map_err(|e| fail(e, "give the package folder that holds `manifest.json`"))?;
     write!(out, "{}", verify::describe(&report))?;
@@ -240,16 +245,7 @@ pub fn verify(
 pub fn archive(action: &ArchiveAction, out: &mut dyn Write) -> Result<u8, Failure> {
     match action {
         ArchiveAction::Add { package, to, trust } => {
-            let trusted = trust
-                .iter()
-                .map(|t| signature::read_public_key(t))
-                .collect::<Result<Vec<_>, _>>()
-                .map_err(|e| {
-                    fail(
-                        e,
-                        "give `--trust` a `.pub` file from `keygen` or 64 hex digits",
-                    )
-                })?;
+            let trusted = trusted_keys(trust)?;
             let line = archive::add(package, to, &trusted, &mut |_| Ok(()))
                 .map_err(|e| fail(e, "archive a package folder as built and signed; `bridgebook verify` tells what is wrong with it"))?;
             writeln!(

@@ -36,6 +36,18 @@ fn keygen(dir: &Path, name: &str) -> (PathBuf, PathBuf) {
     (key.clone(), dir.join(format!("{name}.pub")))
 }
 
+/// The hex key of a public key file (`bridgebook-public-key 1`, then `ed25519-public HEX`).
+fn key_hex(public: &Path) -> String {
+    let text = std::fs::read_to_string(public).unwrap();
+    text.lines()
+        .nth(1)
+        .unwrap()
+        .split(' ')
+        .nth(1)
+        .unwrap()
+        .to_string()
+}
+
 fn sign(pkg: &Path, key: &Path, role: &str, name: &str) {
     let o = run(&[
         "sign",
@@ -279,24 +291,7 @@ fn issue_5_untrusted_or_wrong_keys_fail() {
     let o = run(&["verify", s(&pkg), "--trust", s(&pub_a)]);
     assert_eq!(o.status.code(), Some(4));
     assert!(stdout(&o).contains("INVALID"), "{}", stdout(&o));
-    let b_hex = std::fs::read_to_string(&pub_b)
-        .unwrap()
-        .lines()
-        .nth(1)
-        .unwrap()
-        .split(' ')
-        .nth(1)
-        .unwrap()
-        .to_string();
-    let a_hex = std::fs::read_to_string(&pub_a)
-        .unwrap()
-        .lines()
-        .nth(1)
-        .unwrap()
-        .split(' ')
-        .nth(1)
-        .unwrap()
-        .to_string();
+    let (a_hex, b_hex) = (key_hex(&pub_a), key_hex(&pub_b));
     std::fs::write(&sigs, original.replace(&a_hex, &b_hex)).unwrap();
     let o = run(&["verify", s(&pkg), "--trust", s(&pub_b)]);
     assert_eq!(o.status.code(), Some(4), "{}", stdout(&o));
