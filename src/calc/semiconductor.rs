@@ -6,7 +6,7 @@
 //! losses are taken at the junction temperature they produce at the
 //! highest ambient ([`super::thermal::StageModel::operate`]).
 
-use super::bridge_leg::{closed_form_losses, position_losses, position_rms};
+use super::bridge_leg::{closed_form_losses, position_rms};
 use super::given;
 use super::leg_current::leg_point;
 use super::modulation::{short, DC_POINTS};
@@ -185,9 +185,9 @@ pub fn evaluate(d: &Design, s: &mut Sheet) {
         let m_id = format!("modulation.m_a.{key}");
         let (m_sym, v_sym) = (s.symbol(&m_id), s.symbol(dc_id));
         let a = leg_point(d, s, key, 1.0);
-        let (t_j, _, _) = model.operate(&a, t_a);
+        // The losses at the junction temperature they produce (as entered for an IGBT).
+        let (t_j, l, _) = model.operate(&a, t_a);
         let dev_at = model.device_at(t_j);
-        let l = position_losses(&a, &dev_at);
         let cf = closed_form_losses(&a, &dev_at);
         let r_id = format!("semi.r_ds_on_hot.{key}");
         let (cond_t, cond_d, cond_inputs): (String, String, Vec<String>) = if mosfet {
