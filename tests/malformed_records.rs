@@ -1006,3 +1006,78 @@ fn grid_inductance_on_a_standalone_output() {
         "remove `grid_inductance`, or set `connection: grid`",
     );
 }
+
+// bridgebook record format 1, power stage: every wrong value of the new sections is
+// reported in one run at its own line and key, with a hint, and nothing is written.
+#[test]
+fn power_stage_sections_report_every_error() {
+    let text = edit(&ridge(), "  esr: 40 mohm", "  esr: 40 mV");
+    let text = edit(
+        &text,
+        "  heatsink_to_ambient: 0.8 K/W",
+        "  heatsink_to_ambient: 0.8",
+    );
+    let text = edit(&text, "  rated_life: 8000 h", "  rated_lif: 8000 h");
+    let r = build(&text);
+    // The misspelt key is also a missing `rated_life`: four errors.
+    r.assert_rejected(4);
+    r.assert_error(
+        "expected a resistance (ohm), got `40 mV`",
+        At {
+            line: "esr: 40 mV",
+            col: Some("40 mV"),
+            key: "dc_link.esr",
+        },
+        "write it with a unit, e.g. `esr: 40 mohm`",
+    );
+    r.assert_error(
+        "missing unit: expected a thermal resistance (K/W)",
+        At {
+            line: "heatsink_to_ambient: 0.8",
+            col: Some("0.8"),
+            key: "thermal.heatsink_to_ambient",
+        },
+        "write it with a unit, e.g. `heatsink_to_ambient: 0.5 K/W`",
+    );
+    r.assert_error(
+        "unknown key `rated_lif` in `dc_link`",
+        At {
+            line: "rated_lif: 8000 h",
+            col: Some("rated_lif"),
+            key: "dc_link.rated_lif",
+        },
+        "did you mean `rated_life`?",
+    );
+}
+
+// bridgebook record format 1, power stage: a device value out of range names its key
+// inside the inline device, and the inline/library forms cannot be mixed.
+#[test]
+fn inline_device_errors() {
+    let text = edit(&ridge(), "    t_j_max: 175 degC", "    t_j_max: 400 degC");
+    let text = edit(
+        &text,
+        "  overshoot: 10 %",
+        "  overshoot: 10 %\n  library: parts/devices.yaml",
+    );
+    let r = build(&text);
+    r.assert_rejected(2);
+    r.assert_error(
+        "`t_j_max` = 400 °C is outside the accepted range",
+        At {
+            line: "t_j_max: 400 degC",
+            col: Some("400 degC"),
+            key: "switches.device.t_j_max",
+        },
+        "the maximum junction temperature is 125 degC to 200 degC",
+    );
+    r.assert_error(
+        "`library` is for a device named from a library",
+        At {
+            line: "library: parts/devices.yaml",
+            col: Some("parts/devices.yaml"),
+            key: "switches.library",
+        },
+        "either write `device: NAME` with `library: FILE`",
+    );
+}
