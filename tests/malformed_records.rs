@@ -1081,3 +1081,20 @@ fn inline_device_errors() {
         "either write `device: NAME` with `library: FILE`",
     );
 }
+
+// bridgebook record format 1: a bound that allows zero is printed as "at least 0".
+#[test]
+fn negative_dead_time() {
+    let text = edit(&ridge(), "  dead_time: 1 us", "  dead_time: -1 us");
+    let r = build(&text);
+    r.assert_rejected(1);
+    r.assert_error(
+        "`dead_time` = -1 µs is outside the accepted range: at least 0 s, at most 20 µs",
+        At {
+            line: "dead_time: -1 us",
+            col: Some("-1 us"),
+            key: "switches.dead_time",
+        },
+        "dead times are a few hundred ns to a few µs",
+    );
+}

@@ -381,13 +381,18 @@ fn in_range(r: &Reader, g: &Given, lo: f64, hi: f64, unit: Unit, why: &str) -> b
     use crate::units::format_value;
     let ok = g.value > lo && g.value <= hi;
     if !ok {
+        // A lower bound a hair below zero (`-1e-30`) stands for "zero allowed".
+        let low = if lo < 0.0 && lo > -1e-20 {
+            format!("at least {}", format_value(0.0, unit))
+        } else {
+            format!("above {}", format_value(lo, unit))
+        };
         r.error(
             &g.key,
             format!(
-                "`{}` = {} is outside the accepted range: above {}, at most {}",
+                "`{}` = {} is outside the accepted range: {low}, at most {}",
                 g.key.rsplit('.').next().unwrap_or(&g.key),
                 format_value(g.value, unit),
-                format_value(lo, unit),
                 format_value(hi, unit)
             ),
             Some(why.to_string()),
