@@ -108,7 +108,7 @@ pub enum Command {
         #[arg(long)]
         key: PathBuf,
         /// The role of the signature.
-        #[arg(long, value_parser = ["checked", "approved"])]
+        #[arg(long, value_parser = crate::package::signature::ROLES)]
         role: String,
         /// The signer's name as it should appear in the record.
         #[arg(long)]

@@ -413,25 +413,25 @@ pub fn capacitor_current_at(kind: BusKind, points: &[LegPoint], n: usize) -> Cap
     }
 }
 
-/// Peak-to-peak of the voltage a capacitor `c` builds from the current `means`
-/// sampled evenly over a period of frequency `f1` (its integral, mean removed).
-pub fn ripple_voltage_pp(means: &[f64], c: f64, f1: f64) -> f64 {
-    let n = means.len() as f64;
-    let dt = 1.0 / (f1 * n);
-    let mean = means.iter().sum::<f64>() / n;
-    let mut v = 0.0_f64;
-    let (mut lo, mut hi) = (0.0_f64, 0.0_f64);
-    for m in means {
-        v += (m - mean) * dt / c;
-        lo = lo.min(v);
-        hi = hi.max(v);
-    }
-    hi - lo
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Peak-to-peak of the voltage a capacitor `c` builds from the current `means`
+    /// sampled evenly over a period of frequency `f1` (its integral, mean removed).
+    fn ripple_voltage_pp(means: &[f64], c: f64, f1: f64) -> f64 {
+        let n = means.len() as f64;
+        let dt = 1.0 / (f1 * n);
+        let mean = means.iter().sum::<f64>() / n;
+        let mut v = 0.0_f64;
+        let (mut lo, mut hi) = (0.0_f64, 0.0_f64);
+        for m in means {
+            v += (m - mean) * dt / c;
+            lo = lo.min(v);
+            hi = hi.max(v);
+        }
+        hi - lo
+    }
 
     fn igbt() -> DeviceData {
         DeviceData {

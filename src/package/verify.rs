@@ -121,8 +121,8 @@ fn reevaluate(dir: &Path, tolerance: f64) -> Result<Delta, String> {
         super::diff::SideError::Record(d) => d.to_string(),
         super::diff::SideError::Other { message, .. } => message,
     })?;
-    let text = std::fs::read_to_string(dir.join(RECORD_FILE))
-        .map_err(|e| format!("cannot read `{RECORD_FILE}`: {e}"))?;
+    // The record as the package holds it (`record.json`, already read by `Side::load`).
+    let text = serde_json::to_string_pretty(&old.record).map_err(|e| e.to_string())?;
     let rec = crate::record::load_str(RECORD_FILE, &text)
         .map_err(|d| format!("today's engine cannot read the package's record:\n{d}"))?;
     let sheet = crate::calc::evaluate(&rec.design);
